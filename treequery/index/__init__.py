@@ -1,0 +1,1 @@
+"""The SQLite index: schema, builder, tree reconstruction and statistics."""

@@ -1,0 +1,1 @@
+"""The pattern language: grammar and AST, checks, planner, SQL generation."""

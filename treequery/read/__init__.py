@@ -1,0 +1,1 @@
+"""Reading bracketed treebank files: brackets, Treebank II labels, file sources."""

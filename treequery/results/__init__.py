@@ -1,0 +1,1 @@
+"""Results of a search and the ways to present them."""

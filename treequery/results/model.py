@@ -1,0 +1,55 @@
+"""The result model: what a search returns, independent of how it is shown."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True, slots=True)
+class BoundNode:
+    """A node bound to a named variable of the pattern."""
+
+    id: int                 # node id in the index
+    label: str              # as written
+    category: str
+    functions: str          # '-'-joined function tags, '' when none
+    tok_first: int | None   # 1-based overt-token span in the tree, None when no overt word
+    tok_last: int | None
+    words: str              # the overt words covered, un-escaped, space-separated
+
+
+@dataclass(frozen=True, slots=True)
+class Result:
+    """One distinct assignment of nodes to the pattern's result variables."""
+
+    tree_id: int
+    document: str           # document name (file name)
+    path: str               # path of the source file
+    line: int               # 1-based line where the tree starts
+    ordinal: int            # 1-based number of the tree in its file
+    bindings: dict[str, BoundNode] = field(default_factory=dict)
+
+    @property
+    def location(self) -> str:
+        return f"{self.path}:{self.line}"
+
+
+@dataclass(frozen=True, slots=True)
+class CountGroup:
+    key: tuple
+    results: int
+
+
+@dataclass(frozen=True, slots=True)
+class CountResult:
+    results: int            # distinct results
+    trees: int              # distinct trees with at least one result
+    by: tuple[str, ...] = ()
+    groups: tuple[CountGroup, ...] = ()
+
+    def to_json(self) -> dict:
+        return {
+            "results": self.results,
+            "trees": self.trees,
+            "by": list(self.by),
+            "groups": [{"key": list(g.key), "results": g.results} for g in self.groups],
+        }
