@@ -38,3 +38,48 @@ def gum_dir() -> Path:
 @pytest.fixture(scope="session")
 def demo_dir() -> Path:
     return _need(DEMO_DIR, "the demo treebank")
+
+
+# -- built indexes, one per test session ------------------------------------------------
+
+# Files of the demo folder that are documentation, not trees.
+NOT_TREE_SUFFIXES = {".md", ".tsv", ".txt", ".json", ".py", ".db"}
+
+
+def _build_index(tmp_path_factory, name: str, paths: list[str]) -> Path:
+    from treequery.index.builder import index_paths
+    from treequery.index.schema import connect
+
+    db = tmp_path_factory.mktemp(f"{name}-index") / f"{name}.db"
+    conn = connect(str(db))
+    try:
+        index_paths(conn, paths, corpus=name)
+    finally:
+        conn.close()
+    return db
+
+
+def demo_tree_files(demo: Path) -> list[Path]:
+    return sorted(p for p in demo.rglob("*") if p.is_file() and not p.name.startswith(".")
+                  and p.suffix not in NOT_TREE_SUFFIXES)
+
+
+@pytest.fixture(scope="session")
+def demo_db(tmp_path_factory, demo_dir) -> Path:
+    """An index of the demo treebank, built once per session."""
+    files = demo_tree_files(demo_dir)
+    if not files:
+        pytest.skip(f"the demo treebank at {demo_dir} has no tree files yet")
+    return _build_index(tmp_path_factory, "demo", [str(p) for p in files])
+
+
+@pytest.fixture(scope="session")
+def wsj_db(tmp_path_factory, wsj_dir) -> Path:
+    """An index of the WSJ sample (its .mrg files), built once per session."""
+    return _build_index(tmp_path_factory, "wsj", [str(wsj_dir / "*.mrg")])
+
+
+@pytest.fixture(scope="session")
+def gum_db(tmp_path_factory, gum_dir) -> Path:
+    """An index of the GUM constituency trees (const/*.ptb), built once per session."""
+    return _build_index(tmp_path_factory, "gum", [str(gum_dir / "const" / "*.ptb")])
