@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Iterator
+from dataclasses import replace
 from pathlib import Path
 
 from .errors import TreequeryError
@@ -100,7 +101,9 @@ class Treebank:
         compiled = self.compile(pattern)
         keys = [parse_group_key(text, compiled) for text in by]
         plan = self.plan(compiled, count_empty=count_empty)
-        return count_results(self.conn, plan, by=keys, timeout=timeout)
+        counted = count_results(self.conn, plan, by=keys, timeout=timeout)
+        # Report the keys as the user wrote them (`word`, not the internal `_1.word`).
+        return replace(counted, by=tuple(by))
 
     def explain(self, pattern: PatternLike, count_empty: bool = False) -> str:
         """The AST, the plan with its estimates, the SQL with parameters and SQLite's plan."""

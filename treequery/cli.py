@@ -267,5 +267,13 @@ def count_to_table(counted) -> str:
     return "\n".join(lines)
 
 
+def _register_subgroups() -> None:
+    from .cli_checks import check
+
+    main.add_command(check)
+
+
+_register_subgroups()
+
 if __name__ == "__main__":
     main()

@@ -93,3 +93,13 @@ def test_bad_sidecar(tmp_path, content, line):
     with pytest.raises(TreebankFormatError) as raised:
         document_metadata(tmp_path / "a.mrg")
     assert raised.value.line == line and raised.value.path.endswith("documents.tsv")
+
+
+def test_directory_skips_files_that_are_not_treebanks_but_explicit_files_are_read(tmp_path):
+    # Regression: a README beside the .mrg files was read as trees.
+    (tmp_path / "a.mrg").write_text("(S (NN a))\n")
+    (tmp_path / "b.ptb.gz").write_bytes(b"")
+    (tmp_path / "README.orig").write_text("notes (C) 1995\n")
+    (tmp_path / "rules.tq").write_text("rule x\n")
+    assert [p.name for p in expand_paths([tmp_path])] == ["a.mrg", "b.ptb.gz"]
+    assert [p.name for p in expand_paths([tmp_path / "README.orig"])] == ["README.orig"]

@@ -45,6 +45,14 @@ class IndexReport:
     failed_files: list[tuple[str, str]] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
 
+    def summary(self) -> str:
+        """One line for people: what was added, replaced, kept and skipped, and how fast."""
+        rate = self.nodes / self.seconds if self.seconds else 0.0
+        return (f"indexed {self.trees:,} trees ({self.nodes:,} nodes) in {self.seconds:.1f} s"
+                f" ({rate:,.0f} nodes/s): {self.documents_added} documents added,"
+                f" {self.documents_replaced} replaced, {self.documents_unchanged} unchanged,"
+                f" {len(self.skipped)} trees skipped, {len(self.failed_files)} files failed")
+
 
 @dataclass(frozen=True)
 class _FileResult:

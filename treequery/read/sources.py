@@ -52,10 +52,20 @@ def _expand_one(path: Path) -> list[Path]:
     return [file for file in path.rglob("*") if file.is_file() and _wanted(file.relative_to(path))]
 
 
+# Inside a directory only files with these extensions (optionally + .gz) are
+# treebank files; READMEs, licences and rule files beside them are left alone.
+# A file named explicitly or through a glob is always read, whatever its name.
+TREEBANK_SUFFIXES = frozenset({".mrg", ".ptb", ".tree", ".trees", ".penn", ".bracketed", ".psd"})
+
+
 def _wanted(relative: Path) -> bool:
-    """Directories hold treebank files, plus hidden files and sidecars we skip."""
-    return relative.name != METADATA_FILE and not any(
-        part.startswith(".") for part in relative.parts)
+    """Treebank files of a directory, without hidden files and sidecars."""
+    if relative.name == METADATA_FILE or any(part.startswith(".") for part in relative.parts):
+        return False
+    suffixes = relative.suffixes
+    if suffixes and suffixes[-1] == ".gz":
+        suffixes = suffixes[:-1]
+    return bool(suffixes) and suffixes[-1].lower() in TREEBANK_SUFFIXES
 
 
 def file_sha256(path: str | Path) -> str:
