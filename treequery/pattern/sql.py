@@ -1,0 +1,493 @@
+"""SQL generation: one parameterized SQLite statement per search, built from a Plan.
+
+Every piece of user text (labels, words, regular expressions, numbers) travels as a
+numbered parameter (`?N`), and pattern variables become generated aliases (`n0`,
+`n1`, ...), so nothing the user typed is ever spliced into SQL text.
+"""
+from __future__ import annotations
+
+import sqlite3
+import threading
+from functools import lru_cache
+from typing import TYPE_CHECKING
+
+import regex
+
+from treequery.errors import PatternCheckError, SearchTimeout
+from treequery.pattern.ast import (
+    ATTRIBUTES,
+    And,
+    AnyLabel,
+    Attr,
+    CategoryIs,
+    CategoryRegex,
+    Compare,
+    Condition,
+    Exists,
+    Flag,
+    LabelNot,
+    LabelOneOf,
+    LabelTest,
+    Literal,
+    NodeTest,
+    NodeVar,
+    Not,
+    Or,
+    Relation,
+)
+
+if TYPE_CHECKING:
+    from treequery.pattern.plan import Plan
+
+REGEX_TIMEOUT = 0.5  # seconds one regular-expression search may take
+EMPTY_CATEGORY = "-NONE-"  # Penn Treebank empty elements (Bies et al. 1995, section 4)
+
+# Attributes stored on the label row, by attribute name -> label column.
+LABEL_COLUMNS = {
+    "category": "category",
+    "label": "text",
+    "functions": "functions",
+    "index": "coindex",
+    "gap": "gapindex",
+}
+
+# Attributes computed from the node row; {a} is the node's alias. Unary + marks a
+# column as a filter only: without it SQLite may build a throw-away index on it per
+# search, which costs a scan of the whole node table.
+NODE_EXPRESSIONS = {
+    "children": "+{a}.n_children",
+    "tokens": "IFNULL({a}.tok_last - {a}.tok_first + 1, 0)",
+    "leaves": "({a}.leaf_last - {a}.leaf_first + 1)",
+    "depth": "+{a}.depth",
+    "position": "+{a}.position",
+    "start": "+{a}.tok_first",
+    "end": "+{a}.tok_last",
+    "preterminal": "({a}.word IS NOT NULL)",
+}
+
+SQL_OPERATORS = {"=": "=", "!=": "<>", "<": "<", "<=": "<=", ">": ">", ">=": ">="}
+
+# Relations whose SQL lets the later of two nodes be found by an index probe
+# (an equality on id/parent, or the descendant's id range): (kind, side) pairs.
+_ANCHOR_SIDES = {
+    ("parent-of", "left"), ("parent-of", "right"),
+    ("first-child-of", "left"), ("first-child-of", "right"),
+    ("last-child-of", "left"), ("last-child-of", "right"),
+    ("only-child-of", "left"), ("only-child-of", "right"),
+    ("sister-of", "left"), ("sister-of", "right"),
+    ("left-sister-of", "left"), ("left-sister-of", "right"),
+    ("immediate-left-sister-of", "left"), ("immediate-left-sister-of", "right"),
+    ("same-node", "left"), ("same-node", "right"),
+    ("dominates", "right"),
+}
+
+
+# ---------------------------------------------------------------- regexp function
+
+_regex_state = threading.local()
+
+
+@lru_cache(maxsize=512)
+def compile_regex(pattern: str) -> regex.Pattern:
+    """Compile once per pattern; raises regex.error on a bad pattern."""
+    return regex.compile(pattern)
+
+
+def _tq_regexp(pattern: str | None, text: str | None) -> int | None:
+    if pattern is None or text is None:
+        return None  # a missing value: the comparison is false (two-valued logic)
+    try:
+        return 1 if compile_regex(pattern).search(str(text), timeout=REGEX_TIMEOUT) else 0
+    except TimeoutError:
+        _regex_state.timed_out = pattern
+        raise
+    except regex.error:
+        _regex_state.bad_pattern = pattern
+        raise
+
+
+def register_functions(conn: sqlite3.Connection) -> None:
+    """Register `tq_regexp(pattern, text)` (unanchored search, time-limited) on `conn`."""
+    conn.create_function("tq_regexp", 2, _tq_regexp, deterministic=True)
+
+
+def translate_error(error: sqlite3.Error) -> Exception:
+    """Turn a failure raised inside tq_regexp into a clear treequery error."""
+    timed_out = getattr(_regex_state, "timed_out", None)
+    bad = getattr(_regex_state, "bad_pattern", None)
+    _regex_state.timed_out = _regex_state.bad_pattern = None
+    if timed_out is not None:
+        return SearchTimeout(
+            f"regular expression took too long (over {REGEX_TIMEOUT} s on one value): "
+            f"/{timed_out}/"
+        )
+    if bad is not None:
+        return PatternCheckError(f"invalid regular expression /{bad}/", bad, 0)
+    return error
+
+
+# ---------------------------------------------------------------- generator
+
+class _Generator:
+    """Compiles the conditions of one plan; collects parameters in `?N` order."""
+
+    def __init__(self, plan: Plan):
+        self.plan = plan
+        self.params: list = []
+        self.alias: dict[str, str] = {}
+        self.uses_tree = False
+        for name in plan.order:
+            self.new_alias(name)
+        self.root = self.alias[plan.order[0]]
+
+    def param(self, value: object) -> str:
+        self.params.append(value)
+        return f"?{len(self.params)}"
+
+    def new_alias(self, name: str) -> str:
+        self.alias[name] = f"n{len(self.alias)}"
+        return self.alias[name]
+
+    def of(self, name: str) -> str:
+        try:
+            return self.alias[name]
+        except KeyError:
+            raise PatternCheckError(
+                f"unknown variable {name!r}", self.plan.pattern.text, 0
+            ) from None
+
+    # ------------------------------------------------------------ node tests
+
+    def label_predicate(self, test: LabelTest) -> str:
+        """A predicate over the columns of the label table."""
+        if isinstance(test, AnyLabel):
+            return "1"
+        if isinstance(test, CategoryIs):
+            parts = [f"category = {self.param(test.category)}"]
+            for tag in test.functions:  # a set: order and extra tags do not matter
+                parts.append(f"instr('-' || functions || '-', '-' || {self.param(tag)} || '-') > 0")
+            return "(" + " AND ".join(parts) + ")"
+        if isinstance(test, CategoryRegex):
+            return f"tq_regexp({self.param(test.pattern)}, category)"
+        if isinstance(test, LabelOneOf):
+            return "(" + " OR ".join(self.label_predicate(o) for o in test.options) + ")"
+        if isinstance(test, LabelNot):
+            return f"NOT {self.label_predicate(test.inner)}"
+        raise TypeError(f"unknown label test {test!r}")
+
+    def node_test(self, alias: str, test: NodeTest, label_key: bool = True) -> list[str]:
+        """Conditions of a node test; without `label_key` the label is a filter only."""
+        conds = []
+        if not isinstance(test.label, AnyLabel):
+            pred = self.label_predicate(test.label)
+            column = f"{alias}.label" if label_key else f"+{alias}.label"
+            conds.append(f"{column} IN (SELECT code FROM label WHERE {pred})")
+        if test.word is not None:
+            form = self.param(test.word)
+            conds.append(f"{alias}.word IN (SELECT code FROM word WHERE form = {form})")
+        return conds
+
+    def same_tree(self, alias: str) -> list[str]:
+        """Pin a non-root node to the root's tree; the id range makes it an index probe."""
+        self.uses_tree = True
+        return [f"{alias}.id BETWEEN t.first_node AND t.last_node"]
+
+    # ------------------------------------------------------------ conditions
+
+    def condition(self, cond: Condition) -> str:
+        if isinstance(cond, Relation):
+            return self.relation(cond)
+        if isinstance(cond, Compare):
+            return self.compare(cond)
+        if isinstance(cond, Flag):
+            return self.flag(cond.attr)
+        if isinstance(cond, (And, Or)):
+            if not cond.items:
+                return "1" if isinstance(cond, And) else "0"
+            joiner = " AND " if isinstance(cond, And) else " OR "
+            return "(" + joiner.join(self.condition(c) for c in cond.items) + ")"
+        if isinstance(cond, Not):
+            if isinstance(cond.item, Exists):
+                return "NOT " + self.exists(cond.item)
+            # SQL is three-valued; a missing value makes the inner part NULL, which
+            # must count as false before it is negated (two-valued logic).
+            return f"NOT IFNULL({self.condition(cond.item)}, 0)"
+        if isinstance(cond, Exists):
+            return self.exists(cond)
+        raise TypeError(f"unknown condition {cond!r}")
+
+    def relation(self, rel: Relation) -> str:
+        a, b = self.of(rel.left), self.of(rel.right)
+        kind = rel.kind
+        if kind == "dominates":
+            if rel.max_depth == 1:
+                return f"{b}.parent = {a}.id"
+            parts = [f"{b}.id > {a}.id", f"{b}.id <= {a}.last"]
+            if rel.min_depth is not None and rel.min_depth > 1:
+                parts.append(f"{b}.depth - {a}.depth >= {self.param(rel.min_depth)}")
+            if rel.max_depth is not None:
+                parts.append(f"{b}.depth - {a}.depth <= {self.param(rel.max_depth)}")
+            return "(" + " AND ".join(parts) + ")"
+        if kind == "parent-of":
+            return f"{b}.parent = {a}.id"
+        if kind in ("precedes", "just-before"):
+            first, last = (("leaf_first", "leaf_last") if self.plan.count_empty
+                           else ("tok_first", "tok_last"))
+            gap = "<" if kind == "precedes" else "+ 1 ="
+            return f"({_same_tree(a, b)} AND +{a}.{last} {gap} +{b}.{first})"
+        if kind == "sister-of":
+            return f"({a}.parent = {b}.parent AND {a}.id <> {b}.id)"
+        if kind == "left-sister-of":
+            return f"({a}.parent = {b}.parent AND +{a}.position < +{b}.position)"
+        if kind == "immediate-left-sister-of":
+            return f"({a}.parent = {b}.parent AND +{a}.position + 1 = +{b}.position)"
+        if kind == "first-child-of":
+            return f"({a}.parent = {b}.id AND +{a}.position = 1)"
+        if kind == "last-child-of":
+            return f"({a}.parent = {b}.id AND +{a}.position = +{b}.n_children)"
+        if kind == "only-child-of":
+            return f"({a}.parent = {b}.id AND +{b}.n_children = 1)"
+        if kind == "same-node":
+            return f"{a}.id = {b}.id"
+        raise PatternCheckError(f"unknown relation {kind!r}", self.plan.pattern.text,
+                                rel.span.start)
+
+    def attr_type(self, attr: Attr) -> str:
+        kind = ATTRIBUTES.get(attr.name)
+        if kind is None:
+            raise PatternCheckError(f"unknown attribute {attr.name!r}", self.plan.pattern.text,
+                                    attr.span.start)
+        return kind
+
+    def value(self, attr: Attr) -> str:
+        """A scalar SQL expression for an attribute (NULL when missing)."""
+        self.attr_type(attr)
+        a = self.of(attr.var)
+        if attr.name in LABEL_COLUMNS:
+            return f"(SELECT {LABEL_COLUMNS[attr.name]} FROM label WHERE code = {a}.label)"
+        if attr.name == "word":
+            return f"(SELECT form FROM word WHERE code = {a}.word)"
+        if attr.name == "empty":
+            return f"({self.flag(attr)})"
+        return NODE_EXPRESSIONS[attr.name].format(a=a)
+
+    def flag(self, attr: Attr) -> str:
+        a = self.of(attr.var)
+        if attr.name == "empty":
+            empty = self.param(EMPTY_CATEGORY)
+            return f"{a}.label IN (SELECT code FROM label WHERE category = {empty})"
+        if attr.name == "preterminal":
+            return f"{a}.word IS NOT NULL"
+        raise PatternCheckError(f"{attr.name!r} is not a yes/no attribute", self.plan.pattern.text,
+                                attr.span.start)
+
+    def compare(self, cmp: Compare) -> str:
+        kind = self.attr_type(cmp.left)
+        if isinstance(cmp.right, Literal):
+            literal = _coerce(cmp.right.value, kind)
+            a = self.of(cmp.left.var)
+            name = cmp.left.name
+            # Label and word attributes are tested on the small label/word tables
+            # once, and the node is matched by code: the node_label index applies.
+            if name in LABEL_COLUMNS:
+                test = _operator(LABEL_COLUMNS[name], cmp.op, self.param(literal))
+                return f"{a}.label IN (SELECT code FROM label WHERE {test})"
+            if name == "word":
+                test = _operator("form", cmp.op, self.param(literal))
+                return f"{a}.word IN (SELECT code FROM word WHERE {test})"
+            return _operator(self.value(cmp.left), cmp.op, self.param(literal))
+        self.attr_type(cmp.right)
+        return _operator(self.value(cmp.left), cmp.op, self.value(cmp.right))
+
+    def exists(self, ex: Exists) -> str:
+        aliases = [self.new_alias(v.name) for v in ex.vars]
+        where: list[str] = []
+        outer = set(self.alias) - {v.name for v in ex.vars}
+        loose = {v.name for v in unanchored(ex.vars, ex.condition, outer)}
+        for var, alias in zip(ex.vars, aliases, strict=True):
+            # same rule as the planner's: a few seeks in a tree range, one under a probe
+            limit = 4 if var.name in loose else 1
+            where += self.node_test(alias, var.test, self.plan.codes(var.name) <= limit)
+            if var.name in loose:
+                where += self.same_tree(alias)
+        where += [self.condition(c) for c in conjuncts(ex.condition)]
+        froms = ", ".join(f"node AS {a}" for a in aliases)
+        return f"EXISTS (SELECT 1 FROM {froms} WHERE {' AND '.join(where) or '1'})"
+
+
+def _same_tree(a: str, b: str) -> str:
+    # Unary + keeps SQLite from building a throw-away index on node.tree for this
+    # test; the id ranges are the way in, the tree column is only a filter.
+    return f"+{a}.tree = +{b}.tree"
+
+
+def _coerce(value: str | int, kind: str) -> str | int:
+    if kind in ("int", "bool") and isinstance(value, str) and value.lstrip("-").isdigit():
+        return int(value)
+    if kind == "str" and isinstance(value, int):
+        return str(value)
+    return value
+
+
+def _operator(left: str, op: str, right: str) -> str:
+    if op == "~":
+        return f"tq_regexp({right}, {left})"
+    if op == "!~":
+        return f"NOT tq_regexp({right}, {left})"  # NULL (missing) stays NULL: false
+    return f"{left} {SQL_OPERATORS[op]} {right}"
+
+
+def conjuncts(cond: Condition) -> list[Condition]:
+    """The items of a condition read as a conjunction (nested And flattened)."""
+    if isinstance(cond, And):
+        out: list[Condition] = []
+        for item in cond.items:
+            out += conjuncts(item)
+        return out
+    return [cond]
+
+
+def anchors(cond: Condition, name: str, placed: set[str]) -> list[Relation]:
+    """Top-level relations through which `name` is reached by an index probe from `placed`."""
+    found = []
+    for item in conjuncts(cond):
+        if not isinstance(item, Relation) or item.left == item.right:
+            continue
+        if item.right == name and item.left in placed and (item.kind, "right") in _ANCHOR_SIDES:
+            found.append(item)
+        elif item.left == name and item.right in placed and (item.kind, "left") in _ANCHOR_SIDES:
+            found.append(item)
+    return found
+
+
+def unanchored(variables: tuple[NodeVar, ...], cond: Condition, outer: set[str]) -> list[NodeVar]:
+    """Local variables that need the tree's id range to be found (no probe reaches them)."""
+    placed = set(outer)
+    pending = list(variables)
+    loose: list[NodeVar] = []
+    while pending:
+        reached = [v for v in pending if anchors(cond, v.name, placed)]
+        if not reached:
+            reached = [pending[0]]
+            loose.append(pending[0])
+        for var in reached:
+            placed.add(var.name)
+            pending.remove(var)
+    return loose
+
+
+# ---------------------------------------------------------------- statements
+
+def _body(plan: Plan) -> tuple[_Generator, str, str]:
+    """FROM and WHERE text of the main query, following the plan's join order."""
+    gen = _Generator(plan)
+    variables = {v.name: v for v in plan.pattern.vars}
+    where: list[str] = []
+    for step in plan.steps:
+        alias = gen.alias[step.var]
+        where += gen.node_test(alias, variables[step.var].test, step.label_key)
+        if step.needs_tree_range:
+            where += gen.same_tree(alias)
+        elif alias != gen.root:
+            where.append(_same_tree(alias, gen.root))
+    where += [gen.condition(c) for c in conjuncts(plan.pattern.condition)]
+    if gen.uses_tree:
+        where.insert(0, f"t.id = {gen.root}.tree")
+    joiner = " CROSS JOIN " if plan.pin_order else ", "
+    tables = [f"node AS {gen.alias[name]}" for name in plan.order]
+    if gen.uses_tree:
+        tables.insert(1, "tree AS t")
+    return gen, joiner.join(tables), " AND ".join(where) or "1"
+
+
+def _needs_distinct(plan: Plan) -> bool:
+    """Rows are distinct already when every top-level variable is a result variable."""
+    return set(plan.pattern.result_vars) != {v.name for v in plan.pattern.vars}
+
+
+def to_sql(plan: Plan) -> tuple[str, list]:
+    """The search statement: result variables' ids (r0, r1, ...) and tree_id, in corpus order."""
+    gen, tables, where = _body(plan)
+    ids = [f"{gen.alias[name]}.id AS r{i}" for i, name in enumerate(plan.pattern.result_vars)]
+    distinct = "DISTINCT " if _needs_distinct(plan) else ""
+    order = ", ".join(f"r{i}" for i in range(len(ids)))
+    columns = ", ".join(ids + [f"{gen.root}.tree AS tree_id"])
+    sql = f"SELECT {distinct}{columns} FROM {tables} WHERE {where} ORDER BY {order}"
+    return sql, gen.params
+
+
+def page_sql(plan: Plan, limit: int | None = None, offset: int = 0) -> tuple[str, list]:
+    """The search statement restricted to one page of results."""
+    sql, params = to_sql(plan)
+    n = len(params)
+    return f"{sql} LIMIT ?{n + 1} OFFSET ?{n + 2}", params + [
+        -1 if limit is None else int(limit), int(offset)]
+
+
+def sql_aliases(plan: Plan) -> dict[str, str]:
+    """Which SQL alias stands for which pattern variable (for `explain`)."""
+    gen, _, _ = _body(plan)
+    return dict(gen.alias)
+
+
+def parse_by(plan: Plan, by) -> tuple[tuple[str, str], ...]:
+    """Normalise count-by keys: ("v", "category") or "v.category"."""
+    out = []
+    names = {v.name for v in plan.pattern.vars}
+    for item in by:
+        var, attr = item.split(".", 1) if isinstance(item, str) else item
+        if var not in names:
+            raise PatternCheckError(f"count by: {var!r} is not a top-level variable of the pattern",
+                                    plan.pattern.text, 0)
+        if attr not in ATTRIBUTES:
+            raise PatternCheckError(f"count by: unknown attribute {attr!r}", plan.pattern.text, 0)
+        out.append((var, attr))
+    return tuple(out)
+
+
+def count_sql(plan: Plan, by=()) -> tuple[str, list]:
+    """Counting statement.
+
+    Without `by`: one row (results, trees). With `by`: one row per key,
+    (key values..., results in the group, total results, total trees).
+    """
+    keys = parse_by(plan, by)
+    gen, tables, where = _body(plan)
+    ids = [f"{gen.alias[name]}.id AS r{i}" for i, name in enumerate(plan.pattern.result_vars)]
+    id_names = ", ".join(f"r{i}" for i in range(len(ids)))
+    tree = f"{gen.root}.tree AS tree_id"
+    if not keys:
+        distinct = "DISTINCT " if _needs_distinct(plan) else ""
+        inner = f"SELECT {distinct}{', '.join(ids + [tree])} FROM {tables} WHERE {where}"
+        return f"SELECT COUNT(*), COUNT(DISTINCT tree_id) FROM ({inner})", gen.params
+    values = [f"{gen.value(Attr(var, attr, plan.pattern.vars[0].span))} AS k{i}"
+              for i, (var, attr) in enumerate(keys)]
+    key_names = ", ".join(f"k{i}" for i in range(len(keys)))
+    inner = f"SELECT DISTINCT {', '.join(ids + [tree] + values)} FROM {tables} WHERE {where}"
+    hint = "MATERIALIZED " if sqlite3.sqlite_version_info >= (3, 35, 0) else ""
+    sql = (f"WITH m AS {hint}({inner}) "
+           f"SELECT {key_names}, COUNT(*), "
+           f"(SELECT COUNT(*) FROM (SELECT DISTINCT {id_names} FROM m)), "
+           f"(SELECT COUNT(DISTINCT tree_id) FROM m) "
+           f"FROM m GROUP BY {key_names}")
+    return sql, gen.params
+
+
+# Lookups used when results are shown (fixed text, ids as parameters).
+NODE_DETAILS_SQL = (
+    "SELECT n.id, n.last, n.tree, l.text, l.category, l.functions, n.tok_first, n.tok_last "
+    "FROM node AS n JOIN label AS l ON l.code = n.label WHERE n.id = ?"
+)
+NODE_WORDS_SQL = (
+    "SELECT w.form FROM node AS n JOIN word AS w ON w.code = n.word "
+    "WHERE n.id BETWEEN ? AND ? AND n.tok_first IS NOT NULL ORDER BY n.id"
+)
+TREE_LOCATION_SQL = (
+    "SELECT t.id, d.name, d.path, t.line, t.ordinal FROM tree AS t "
+    "JOIN document AS d ON d.id = t.document WHERE t.id = ?"
+)
+
+
+def explain_query_plan(conn: sqlite3.Connection, sql: str, params: list) -> list[tuple]:
+    """SQLite's own plan for a statement: (id, parent, detail) rows."""
+    return [(row[0], row[1], row[-1]) for row in conn.execute("EXPLAIN QUERY PLAN " + sql, params)]

@@ -1,0 +1,163 @@
+"""Running a planned search: streaming results, counting them, and explaining the plan."""
+from __future__ import annotations
+
+import sqlite3
+import time
+from collections.abc import Callable, Iterator, Sequence
+from typing import TypeVar
+
+from treequery.errors import SearchTimeout
+from treequery.pattern.ast import ATTRIBUTES
+from treequery.pattern.plan import Plan
+from treequery.pattern.sql import (
+    NODE_DETAILS_SQL,
+    NODE_WORDS_SQL,
+    TREE_LOCATION_SQL,
+    count_sql,
+    explain_query_plan,
+    page_sql,
+    parse_by,
+    register_functions,
+    sql_aliases,
+    to_sql,
+    translate_error,
+)
+from treequery.results.model import BoundNode, CountGroup, CountResult, Result
+
+T = TypeVar("T")
+PROGRESS_EVERY = 1000  # SQLite virtual-machine steps between two clock checks
+FETCH_BATCH = 256
+
+
+class _SearchClock:
+    """Enforces a time limit on the time spent inside SQLite for one search.
+
+    Only time inside `run` counts, so a slow consumer of streamed results does not
+    use up the search's budget. The progress handler is removed on close.
+    """
+
+    def __init__(self, conn: sqlite3.Connection, timeout: float | None):
+        self.conn, self.timeout = conn, timeout
+        self.spent = 0.0
+        self.since: float | None = None
+
+    def _expired(self) -> int:
+        if self.since is None:
+            return 0
+        return int(self.spent + time.monotonic() - self.since > self.timeout)
+
+    def __enter__(self) -> _SearchClock:
+        register_functions(self.conn)
+        if self.timeout is not None:
+            self.conn.set_progress_handler(self._expired, PROGRESS_EVERY)
+        return self
+
+    def __exit__(self, *exc) -> None:
+        if self.timeout is not None:
+            self.conn.set_progress_handler(None, 0)
+
+    def run(self, call: Callable[..., T], *args) -> T:
+        self.since = time.monotonic()
+        try:
+            return call(*args)
+        except sqlite3.OperationalError as err:
+            if self.timeout is not None and self._expired():
+                raise SearchTimeout(
+                    f"the search took longer than its time limit of {self.timeout:g} s "
+                    f"and was stopped (make the pattern more specific or raise the limit)"
+                ) from None
+            raise translate_error(err) from err
+        finally:
+            self.spent += time.monotonic() - self.since
+            self.since = None
+
+
+# ---------------------------------------------------------------- results
+
+def fetch_results(conn: sqlite3.Connection, plan: Plan, limit: int | None = None,
+                  offset: int = 0, timeout: float | None = None) -> Iterator[Result]:
+    """Stream the distinct results of a plan in corpus order."""
+    sql, params = page_sql(plan, limit, offset)
+    names = plan.pattern.result_vars
+    with _SearchClock(conn, timeout) as clock:
+        cursor = clock.run(conn.execute, sql, params)
+        locations: dict[int, tuple] = {}
+        while True:
+            rows = clock.run(cursor.fetchmany, FETCH_BATCH)
+            if not rows:
+                return
+            for row in rows:
+                yield _result(conn, names, row, locations)
+
+
+def _result(conn: sqlite3.Connection, names: Sequence[str], row: tuple,
+            locations: dict[int, tuple]) -> Result:
+    tree_id = row[-1]
+    if tree_id not in locations:
+        locations.clear()  # results come in corpus order: one tree at a time
+        locations[tree_id] = conn.execute(TREE_LOCATION_SQL, (tree_id,)).fetchone()
+    _, name, path, line, ordinal = locations[tree_id]
+    ids = zip(names, row[:-1], strict=True)
+    bindings = {var: bound_node(conn, node_id) for var, node_id in ids}
+    return Result(tree_id, name, path, line, ordinal, bindings)
+
+
+def bound_node(conn: sqlite3.Connection, node_id: int) -> BoundNode:
+    """The details of one node shown with a result."""
+    node, last, _, label, category, functions, tok_first, tok_last = conn.execute(
+        NODE_DETAILS_SQL, (node_id,)).fetchone()
+    words = " ".join(form for (form,) in conn.execute(NODE_WORDS_SQL, (node, last)))
+    return BoundNode(node, label, category, functions, tok_first, tok_last, words)
+
+
+# ---------------------------------------------------------------- counting
+
+def count_results(conn: sqlite3.Connection, plan: Plan, by=(),
+                  timeout: float | None = None) -> CountResult:
+    """Count distinct results and trees; with `by`, group results by attribute values.
+
+    `by` holds ("var", "attr") pairs or "var.attr" strings. Groups are sorted by
+    number of results (most first), then by key.
+    """
+    keys = parse_by(plan, by)
+    sql, params = count_sql(plan, keys)
+    with _SearchClock(conn, timeout) as clock:
+        rows = clock.run(lambda: conn.execute(sql, params).fetchall())
+    labels = tuple(f"{var}.{attr}" for var, attr in keys)
+    if not keys:
+        results, trees = rows[0]
+        return CountResult(results, trees, labels, ())
+    if not rows:
+        return CountResult(0, 0, labels, ())
+    bools = [ATTRIBUTES[attr] == "bool" for _, attr in keys]
+    groups = [CountGroup(_key(row[:len(keys)], bools), row[len(keys)]) for row in rows]
+    groups.sort(key=lambda g: (-g.results, _sortable(g.key)))
+    results, trees = rows[0][len(keys) + 1], rows[0][len(keys) + 2]
+    return CountResult(results, trees, labels, tuple(groups))
+
+
+def _key(values: Sequence, bools: Sequence[bool]) -> tuple:
+    pairs = zip(values, bools, strict=True)
+    return tuple(bool(v) if is_bool and v is not None else v for v, is_bool in pairs)
+
+
+def _sortable(key: tuple) -> tuple:
+    """Missing values sort after present ones."""
+    return tuple((v is None, v if v is not None else 0) for v in key)
+
+
+# ---------------------------------------------------------------- explain
+
+def explain_text(conn: sqlite3.Connection, plan: Plan) -> str:
+    """The chosen join order with its estimates, the SQL and parameters, SQLite's plan."""
+    register_functions(conn)
+    sql, params = to_sql(plan)
+    aliases = ", ".join(f"{alias} = {name}" for name, alias in sql_aliases(plan).items())
+    lines = [plan.describe(), "", "SQL:", f"  {sql}", f"aliases: {aliases}", "parameters:"]
+    lines += [f"  ?{i} = {value!r}" for i, value in enumerate(params, 1)] or ["  (none)"]
+    lines += ["", "SQLite query plan:"]
+    depth: dict[int, int] = {0: 0}
+    for node_id, parent, detail in explain_query_plan(conn, sql, params):
+        depth[node_id] = depth.get(parent, 0) + 1
+        lines.append("  " * depth[node_id] + detail)
+    return "\n".join(lines)
