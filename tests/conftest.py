@@ -19,7 +19,8 @@ DEMO_DIR = REPO_ROOT / "demo_treebank"
 
 def _need(path: Path, what: str) -> Path:
     if not path.is_dir():
-        pytest.skip(f"{what} not found at {path} (set TREEQUERY_CORPORA to the shared corpora folder)")
+        pytest.skip(f"{what} not found at {path} "
+                    "(set TREEQUERY_CORPORA to the shared corpora folder)")
     return path
 
 
@@ -83,3 +84,15 @@ def wsj_db(tmp_path_factory, wsj_dir) -> Path:
 def gum_db(tmp_path_factory, gum_dir) -> Path:
     """An index of the GUM constituency trees (const/*.ptb), built once per session."""
     return _build_index(tmp_path_factory, "gum", [str(gum_dir / "const" / "*.ptb")])
+
+
+@pytest.fixture(scope="session")
+def demo_cache(tmp_path_factory):
+    """Commands without --db use the demo index; build it in a fresh cache for the tests."""
+    previous = os.environ.get("TREEQUERY_CACHE")
+    os.environ["TREEQUERY_CACHE"] = str(tmp_path_factory.mktemp("cache"))
+    yield Path(os.environ["TREEQUERY_CACHE"])
+    if previous is None:
+        del os.environ["TREEQUERY_CACHE"]
+    else:
+        os.environ["TREEQUERY_CACHE"] = previous

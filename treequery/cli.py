@@ -252,9 +252,14 @@ def write_csv(results, result_vars) -> None:
         writer.writerow(row)
 
 
+def plural(number: int, noun: str) -> str:
+    return f"{number:,} {noun}{'' if number == 1 else 's'}"
+
+
 def count_to_table(counted) -> str:
+    total = f"{plural(counted.results, 'result')} in {plural(counted.trees, 'tree')}"
     if not counted.by:
-        return f"{counted.results:,} results in {counted.trees:,} trees"
+        return total
     header = [*counted.by, "results"]
     rows = [[("" if v is None else str(v)) for v in g.key] + [f"{g.results:,}"]
             for g in counted.groups]
@@ -263,7 +268,7 @@ def count_to_table(counted) -> str:
                        for i, (cell, w) in enumerate(zip(row, widths, strict=True)))
              for row in [header, *rows]]
     lines.insert(1, "  ".join("-" * w for w in widths))
-    lines.append(f"{counted.results:,} results in {counted.trees:,} trees")
+    lines.append(total)
     return "\n".join(lines)
 
 

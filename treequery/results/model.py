@@ -1,6 +1,7 @@
 """The result model: what a search returns, independent of how it is shown."""
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
 
 
@@ -30,7 +31,17 @@ class Result:
 
     @property
     def location(self) -> str:
-        return f"{self.path}:{self.line}"
+        """`file:line` for an editor, the file relative to the working folder when inside it."""
+        return f"{display_path(self.path)}:{self.line}"
+
+
+def display_path(path: str) -> str:
+    """A stored (absolute) path as a person wants to read it: relative when under the cwd."""
+    try:
+        relative = os.path.relpath(path)
+    except ValueError:  # another drive on Windows
+        return path
+    return path if relative.startswith("..") else relative
 
 
 @dataclass(frozen=True, slots=True)
