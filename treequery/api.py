@@ -107,10 +107,12 @@ class Treebank:
 
     def explain(self, pattern: PatternLike, count_empty: bool = False) -> str:
         """The AST, the plan with its estimates, the SQL with parameters and SQLite's plan."""
+        from .pattern.describe import describe
         from .results.fetch import explain_text
 
-        plan = self.plan(pattern, count_empty=count_empty)
-        return explain_text(self.conn, plan)
+        compiled = self.compile(pattern)
+        plan = self.plan(compiled, count_empty=count_empty)
+        return f"pattern:\n{_indent(describe(compiled))}\n\n{explain_text(self.conn, plan)}"
 
 
 def parse_group_key(text: str, pattern: Pattern) -> tuple[str, str]:
@@ -128,3 +130,7 @@ def parse_group_key(text: str, pattern: Pattern) -> tuple[str, str]:
         named = ", ".join(pattern.result_vars)
         raise TreequeryError(f"--by {text}: {var!r} is not a result variable (results: {named})")
     return var, attr
+
+
+def _indent(text: str) -> str:
+    return "\n".join("  " + line for line in text.split("\n"))
