@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from ..results.model import display_path
 
 # The label of an occurrence where the words form no constituent.
 NIL = "NIL"
@@ -31,7 +32,7 @@ class Occurrence:
 
     @property
     def location(self) -> str:
-        return f"{self.path}:{self.line}"
+        return f"{display_path(self.path)}:{self.line}"
 
 
 @dataclass(frozen=True, slots=True)

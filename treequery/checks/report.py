@@ -5,6 +5,7 @@ from dataclasses import asdict
 
 from .evaluate import RuleOutcome
 from .model import Variation
+from ..results.model import display_path
 
 CONCORDANCE_CHARS = 40  # characters of context shown on each side in text output
 
@@ -100,7 +101,8 @@ def outcomes_to_text(outcomes: list[RuleOutcome], show_trees: bool = True) -> st
         lines.append(f"      {rule.message}")
         for violation in outcome.violations:
             nodes = "  ".join(f'{node.var}={node.label} "{node.words}"' for node in violation.nodes)
-            lines.append(f"  {violation.path}:{violation.line}  tree {violation.tree_id}"
+            where = f"{display_path(violation.path)}:{violation.line}"
+            lines.append(f"  {where}  tree {violation.tree_id}"
                          f" (#{violation.ordinal} in {violation.document})  {nodes}".rstrip())
             if show_trees:
                 lines.extend("    " + row for row in violation.tree.splitlines())
