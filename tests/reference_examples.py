@@ -14,7 +14,11 @@ from pathlib import Path
 
 from click.testing import CliRunner
 
-REFERENCE = Path(__file__).resolve().parent.parent / "grammar" / "README.md"
+ROOT = Path(__file__).resolve().parent.parent
+REFERENCE = ROOT / "grammar" / "README.md"
+# Documents whose console examples are run by the tests: the language reference
+# and the project README.
+DOCUMENTS = (REFERENCE, ROOT / "README.md")
 BLOCK = re.compile(r"```console\n(.*?)```", re.S)
 PROMPT = "$ treequery "
 
@@ -70,8 +74,8 @@ def run(command: str) -> str:
     return (result.output).rstrip("\n")
 
 
-def update() -> int:
-    text = REFERENCE.read_text(encoding="utf-8")
+def update(document: Path) -> int:
+    text = document.read_text(encoding="utf-8")
 
     def fill(block: re.Match) -> str:
         out = []
@@ -80,13 +84,14 @@ def update() -> int:
             out.extend(run(command).split("\n"))
         return "```console\n" + "\n".join(out) + "\n```"
 
-    REFERENCE.write_text(BLOCK.sub(fill, text), encoding="utf-8")
+    document.write_text(BLOCK.sub(fill, text), encoding="utf-8")
     return len(examples(text))
 
 
 if __name__ == "__main__":
     if sys.argv[1:] == ["--update"]:
-        sys.path.insert(0, str(REFERENCE.parent.parent))
-        print(f"rewrote the output of {update()} examples in {REFERENCE}")
+        sys.path.insert(0, str(ROOT))
+        for document in DOCUMENTS:
+            print(f"rewrote the output of {update(document)} examples in {document}")
     else:
         print(__doc__)
