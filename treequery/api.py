@@ -47,12 +47,18 @@ class Treebank:
     # ------------------------------------------------------------ indexing
 
     def index(self, paths: Iterable[str], corpus: str = "default", meta: dict | None = None,
-              strict: bool = False, progress: bool = False, report_file: str | None = None):
-        """Index treebank files, directories or globs; returns an IndexReport."""
+              strict: bool = False, progress: bool = False, report_file: str | None = None,
+              head_rules: str | Path | None = None):
+        """Index treebank files, directories or globs; returns an IndexReport.
+
+        `head_rules`: a head-rule file (grammar/README.md, "Head rules") to use instead
+        of the rules the index already has (the default table for a new index).
+        """
         from .index.builder import index_paths
 
         return index_paths(self.conn, list(paths), corpus=corpus, meta=meta or {},
-                           strict=strict, progress=progress, report_file=report_file)
+                           strict=strict, progress=progress, report_file=report_file,
+                           head_rules=head_rules)
 
     def info(self) -> dict:
         from .index.stats import info
@@ -70,6 +76,33 @@ class Treebank:
 
         return tree_location(self.conn, tree_id)
 
+    def tree(self, tree_id: int):
+        """Tree `tree_id` as TreeNode objects carrying node ids (to mark a result's nodes)."""
+        from .index.trees import load_tree_nodes
+
+        return load_tree_nodes(self.conn, tree_id)
+
+    def tree_at(self, path: str, line: int) -> int:
+        """The number of the tree spanning `line` of `path` (full, relative or trailing path).
+
+        >>> Treebank().tree_at("board_minutes.mrg", 50)   # doctest: +SKIP
+        5
+        """
+        from .index.trees import tree_at_line
+
+        return tree_at_line(self.conn, path, line)
+
+    def node_attributes(self, node_id: int) -> dict:
+        """Every pattern-language attribute of one node (`tokens`, `depth`, `word`, ...)."""
+        from .index.trees import node_attributes
+
+        return node_attributes(self.conn, node_id)
+
+    def allow_interrupt(self) -> None:
+        """Let Ctrl-C stop a long search step: SQLite calls back into Python now and then,
+        which is when Python notices the signal (the step then fails as `interrupted`)."""
+        self.conn.set_progress_handler(lambda: 0, 50_000)
+
     # ------------------------------------------------------------ searching
 
     def compile(self, pattern: PatternLike) -> Pattern:
@@ -86,12 +119,51 @@ class Treebank:
         return make_plan(self.conn, self.compile(pattern), count_empty=count_empty)
 
     def find(self, pattern: PatternLike, limit: int | None = None, offset: int = 0,
-             count_empty: bool = False, timeout: float | None = None) -> Iterator[Result]:
-        """Yield results in corpus order, one per distinct assignment of the result variables."""
+             count_empty: bool = False, timeout: float | None = None,
+             sample: int | None = None, seed: int | None = None,
+             sort: str | None = None) -> Iterator[Result]:
+        """Yield results, one per distinct assignment of the result variables.
+
+        In corpus order they stream as the search finds them. `sample=N` keeps a
+        uniform random sample of N results (the same for the same `seed`), `sort`
+        orders by one attribute of one variable (`"o.tokens"`, `"-o.tokens"` for
+        descending); both read every result first. `offset` and `limit` then page
+        through what is left.
+
+        >>> [r.tree_id for r in Treebank().find("NP", sample=3, seed=1)]  # doctest: +SKIP
+        """
+        from .results import select
         from .results.fetch import fetch_results
 
         plan = self.plan(pattern, count_empty=count_empty)
-        return fetch_results(self.conn, plan, limit=limit, offset=offset, timeout=timeout)
+        if sample is None and sort is None:
+            return fetch_results(self.conn, plan, limit=limit, offset=offset, timeout=timeout)
+        results = fetch_results(self.conn, plan, timeout=timeout)
+        if sample is not None:
+            results = select.sample(results, sample, seed)
+        if sort is not None:
+            key = select.parse_sort_key(sort, plan.pattern.result_vars)
+            results = select.sort_results(results, key, self.node_attributes)
+        return select.page(list(results), limit, offset)
+
+    def result_vars(self, pattern: PatternLike) -> tuple[str, ...]:
+        """The variables each result binds, in the pattern's order."""
+        return tuple(self.compile(pattern).result_vars)
+
+    def export_subtreebank(self, results: Iterable[Result], out) -> list:
+        """Write each matched tree once, in corpus order, as bracketed text.
+
+        `out` is a text stream (trees one after another) or a folder path (one file
+        per source file, same names, plus a `trees.tsv` manifest of where each tree
+        came from). Indexing the output gives back the same trees. Returns the
+        ExportedTree records.
+        """
+        from .results.export import distinct_trees, write_tree_folder, write_tree_stream
+
+        trees = ((r, self.tree_brackets(r.tree_id)) for r in distinct_trees(results))
+        if isinstance(out, str | Path):
+            return write_tree_folder(trees, Path(out))
+        return list(write_tree_stream(trees, out))
 
     def count(self, pattern: PatternLike, by: Iterable[str] = (), count_empty: bool = False,
               timeout: float | None = None) -> CountResult:

@@ -2,16 +2,29 @@
 from __future__ import annotations
 
 import csv
+import functools
 import json
+import sqlite3
 import sys
+from pathlib import Path
 
 import click
 
 from .api import Treebank
 from .errors import PatternError, SearchTimeout, TreequeryError
+from .results.brackets import marked_brackets
+from .results.display import Painter, location, shown_path, tree_location, use_color
+from .results.kwic import DEFAULT_WIDTH
+from .results.kwic import kwic_var as pick_kwic_var
+from .results.render import FORMATS, OutputOptions, header, render
+from .results.svg import file_name as svg_file_name
+from .results.svg import html_page, result_svg, tree_svg
+from .results.textart import draw_tree
 
 EXIT_FAILURE = 1
 EXIT_BAD_PATTERN = 2
+EXIT_INTERRUPTED = 130  # 128 + SIGINT, what shells report for Ctrl-C
+DRAW_LIMIT = 20
 
 
 class TreequeryGroup(click.Group):
@@ -31,7 +44,12 @@ class TreequeryGroup(click.Group):
             ctx.exit(EXIT_FAILURE)
         except KeyboardInterrupt:
             click.echo("interrupted", err=True)
-            ctx.exit(130)
+            ctx.exit(EXIT_INTERRUPTED)
+        except sqlite3.OperationalError as error:
+            if str(error) != "interrupted":  # Ctrl-C noticed inside a search step
+                raise
+            click.echo("interrupted", err=True)
+            ctx.exit(EXIT_INTERRUPTED)
         except BrokenPipeError:  # `treequery find ... | head`
             sys.stderr.close()
             ctx.exit(0)
@@ -64,7 +82,9 @@ def read_pattern(pattern: str | None, pattern_file) -> str:
 
 
 def open_treebank(db: str | None, readonly: bool = True) -> Treebank:
-    return Treebank(db, readonly=readonly and db is not None)
+    treebank = Treebank(db, readonly=readonly and db is not None)
+    treebank.allow_interrupt()
+    return treebank
 
 
 @click.group(cls=TreequeryGroup)
@@ -83,7 +103,10 @@ def main() -> None:
 @click.option("--report", "report_file", type=click.Path(dir_okay=False), default=None,
               help="Write the list of skipped trees to this file.")
 @click.option("--quiet", is_flag=True, help="No progress bar.")
-def index(db, paths, corpus, meta, strict, report_file, quiet) -> None:
+@click.option("--head-rules", "head_rules", type=click.Path(dir_okay=False, exists=True),
+              default=None, help="Head-rule file (default: the rules the index has, "
+              "else Collins 1999); stored in the index.")
+def index(db, paths, corpus, meta, strict, report_file, quiet, head_rules) -> None:
     """Index bracketed treebank files, directories or globs into DB."""
     metadata = {}
     for item in meta:
@@ -93,7 +116,8 @@ def index(db, paths, corpus, meta, strict, report_file, quiet) -> None:
         metadata[key] = value
     with Treebank(db) as treebank:
         report = treebank.index(paths, corpus=corpus, meta=metadata, strict=strict,
-                                progress=not quiet, report_file=report_file)
+                                progress=not quiet, report_file=report_file,
+                                head_rules=head_rules)
     click.echo(report.summary())
     for skipped in report.skipped[:20]:
         click.echo(f"  skipped {skipped.source}:{skipped.line}:{skipped.column}: {skipped.message}",
@@ -130,41 +154,196 @@ def info(db, fmt) -> None:
             click.echo(f"  {shown:<12}{count:>10,}")
 
 
+def output_options(formats: tuple[str, ...], default: str):
+    """The options every command that prints results shares, with the same meaning.
+
+    `--format` picks the view; `--color` and `--width`, `--kwic-var`, `--whole`
+    tune the views that use them and are ignored by the others.
+    """
+    def decorate(command):
+        for option in reversed([
+            click.option("--format", "fmt", type=click.Choice(formats), default=default,
+                         show_default=True, help="How to print each result."),
+            click.option("--color", type=click.Choice(["auto", "always", "never"]),
+                         default="auto", show_default=True,
+                         help="Colour the bound nodes (auto: on a terminal, unless NO_COLOR)."),
+            click.option("--width", type=click.IntRange(0), default=DEFAULT_WIDTH,
+                         show_default=True,
+                         help="kwic: characters of context on each side (0: whole sentences, "
+                              "not aligned)."),
+            click.option("--kwic-var", default=None, metavar="VAR",
+                         help="kwic: the variable whose words are the match (default: the "
+                              "first result variable)."),
+            click.option("--whole", is_flag=True,
+                         help="brackets/tree: show the whole tree, not the matched subtree."),
+        ]):
+            command = option(command)
+        return command
+    return decorate
+
+
+def paging_options(command):
+    """--limit, --offset, --sample/--seed and --sort, for every command that lists results."""
+    for option in reversed([
+        click.option("--limit", type=click.IntRange(0), default=None,
+                     help="At most this many results."),
+        click.option("--offset", type=click.IntRange(0), default=0,
+                     help="Skip this many results first."),
+        click.option("--sample", type=click.IntRange(0), default=None, metavar="N",
+                     help="A uniform random sample of N results (in corpus order)."),
+        click.option("--seed", type=int, default=None,
+                     help="Seed for --sample: the same seed gives the same sample."),
+        click.option("--sort", default=None, metavar="[-]VAR.ATTR",
+                     help="Order by an attribute of a result variable, e.g. o.tokens "
+                          "(-o.tokens: largest first). Default: corpus order."),
+    ]):
+        command = option(command)
+    return command
+
+
+def make_output(fmt: str, color: str, width: int, kwic_var: str | None, whole: bool,
+                result_vars) -> OutputOptions:
+    if kwic_var is not None:
+        kwic_var = pick_kwic_var(result_vars, kwic_var)
+    return OutputOptions(fmt, use_color(color), width, kwic_var, whole)
+
+
 @main.command()
 @db_option
-@click.argument("tree_id", type=int)
-@click.option("--flat", is_flag=True, help="Print the tree on one line.")
-def show(db, tree_id, flat) -> None:
-    """Print tree number TREE_ID in bracket notation, with its location."""
+@click.argument("tree_id", type=int, required=False)
+@click.option("--at", "at", metavar="FILE:LINE", default=None,
+              help="The tree spanning this line of this file (the path may be relative or "
+                   "its last parts, e.g. wsj_0001.mrg:12).")
+@click.option("--format", "fmt", type=click.Choice(["brackets", "tree", "svg"]),
+              default="brackets", show_default=True,
+              help="Indented brackets, text art, or an SVG drawing.")
+@click.option("--flat", is_flag=True, help="brackets: the tree on one line.")
+@click.option("--color", type=click.Choice(["auto", "always", "never"]), default="auto",
+              show_default=True, help="Dim the location line on a terminal.")
+def show(db, tree_id, at, fmt, flat, color) -> None:
+    """Print tree number TREE_ID (or the tree at --at FILE:LINE) with its location."""
+    if (tree_id is None) == (at is None):
+        raise click.UsageError("give a tree number or --at FILE:LINE (one of them)")
     with open_treebank(db) as treebank:
+        if at is not None:
+            tree_id = treebank.tree_at(*split_at(at))
         where = treebank.tree_location(tree_id)
-        click.echo(f"# tree {tree_id}  {where['path']}:{where['line']}")
-        click.echo(treebank.tree_brackets(tree_id, indent=not flat))
+        tree = treebank.tree(tree_id)
+    painter = Painter(use_color(color), {})
+    caption = tree_location(where, tree_id)
+    if fmt == "svg":
+        click.echo(tree_svg(tree, {}, caption))
+        return
+    # The tree's number first: it is what `show` was asked for; file:line ends the line.
+    echo = functools.partial(click.echo, color=painter.color)
+    echo(painter.dim(f"# tree {tree_id}  {shown_path(where['path'])}:{where['line']}"))
+    if fmt == "tree":
+        echo(draw_tree(tree, {}, painter))
+    else:
+        echo(marked_brackets(tree, {}, painter, indent=not flat))
+
+
+def split_at(text: str) -> tuple[str, int]:
+    path, _, line = text.rpartition(":")
+    if not path or not line.isdigit() or int(line) < 1:
+        raise click.BadParameter(f"{text!r} is not FILE:LINE", param_hint="--at")
+    return path, int(line)
 
 
 @main.command()
 @click.argument("pattern", required=False)
 @pattern_file_option
 @db_option
-@click.option("--limit", type=int, default=None, help="At most this many results.")
-@click.option("--offset", type=int, default=0, help="Skip this many results first.")
-@click.option("--format", "fmt", type=click.Choice(["text", "json", "csv"]), default="text")
+@paging_options
+@output_options(FORMATS, "text")
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), default=None,
+              help="treebank: write the matched trees into this folder (one file per source "
+                   "file and a trees.tsv manifest) instead of printing them.")
 @count_empty_option
 @timeout_option
-def find(pattern, pattern_file, db, limit, offset, fmt, count_empty, timeout) -> None:
-    """Print every result of PATTERN with its location."""
+def find(pattern, pattern_file, db, limit, offset, sample, seed, sort, fmt, color, width,
+         kwic_var, whole, out_dir, count_empty, timeout) -> None:
+    """Print every result of PATTERN with its location (file:line and tree number).
+
+    \b
+    Formats: text      one line per result: location, each variable's label and words
+             kwic      concordance: left context | match | right context
+             brackets  the matched subtree (--whole: the tree), bound nodes as name:LABEL
+             tree      the same drawn as text art
+             json      JSON Lines, one object per result
+             csv, tsv  one row per result, columns per variable
+             treebank  each matched tree once, in bracket notation (see --out)
+    """
     text = read_pattern(pattern, pattern_file)
     with open_treebank(db) as treebank:
+        result_vars = treebank.result_vars(text)
+        options = make_output(fmt, color, width, kwic_var, whole, result_vars)
         results = treebank.find(text, limit=limit, offset=offset, count_empty=count_empty,
-                                timeout=timeout)
-        if fmt == "json":
-            for result in results:
-                click.echo(json.dumps(result_to_json(result), ensure_ascii=False))
-        elif fmt == "csv":
-            write_csv(results, treebank.compile(text).result_vars)
-        else:
-            for result in results:
-                click.echo(result_to_text(result))
+                                timeout=timeout, sample=sample, seed=seed, sort=sort)
+        if fmt == "treebank":
+            export_trees(treebank, results, out_dir)
+            return
+        echo_results(treebank, results, options, result_vars)
+
+
+def echo_results(treebank: Treebank, results, options: OutputOptions, result_vars) -> None:
+    """Print each result as soon as the search yields it (click.echo flushes each line)."""
+    first = header(options, result_vars)
+    if first is not None:
+        click.echo(first)
+    tree_of = functools.lru_cache(maxsize=64)(treebank.tree)
+    for result in results:
+        # color=True: click would strip the codes when stdout is not a terminal.
+        click.echo(render(result, tree_of, options, result_vars), color=options.color)
+
+
+def export_trees(treebank: Treebank, results, out_dir: str | None) -> None:
+    if out_dir is None:
+        treebank.export_subtreebank(results, click.get_text_stream("stdout"))
+        return
+    exported = treebank.export_subtreebank(results, out_dir)
+    files = len({tree.file for tree in exported})
+    click.echo(f"wrote {len(exported)} trees into {files} files in {out_dir} "
+               f"(manifest: {out_dir}/trees.tsv)", err=True)
+
+
+@main.command()
+@click.argument("pattern", required=False)
+@pattern_file_option
+@db_option
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), required=True,
+              help="Folder for the drawings (created if missing).")
+@paging_options
+@click.option("--html", is_flag=True,
+              help="One page, DIR/index.html, with every drawing, instead of one SVG each.")
+@count_empty_option
+@timeout_option
+def draw(pattern, pattern_file, db, out_dir, limit, offset, sample, seed, sort, html,
+         count_empty, timeout) -> None:
+    """Draw the tree of each result of PATTERN as SVG, bound nodes highlighted and named.
+
+    Without --limit, the first 20 results are drawn.
+    """
+    text = read_pattern(pattern, pattern_file)
+    folder = Path(out_dir)
+    folder.mkdir(parents=True, exist_ok=True)
+    limit = DRAW_LIMIT if limit is None else limit
+    with open_treebank(db) as treebank:
+        results = treebank.find(text, limit=limit, offset=offset, count_empty=count_empty,
+                                timeout=timeout, sample=sample, seed=seed, sort=sort)
+        drawings = []
+        for number, result in enumerate(results, 1):
+            svg = result_svg(result, treebank.tree(result.tree_id), text)
+            if html:
+                drawings.append((result, svg))
+                continue
+            target = folder / svg_file_name(number, result)
+            target.write_text(svg + "\n", encoding="utf-8")
+            click.echo(f"{target}  # {location(result)}")
+    if html:
+        target = folder / "index.html"
+        target.write_text(html_page(drawings, " ".join(text.split())), encoding="utf-8")
+        click.echo(f"{target}  ({len(drawings)} drawings)")
 
 
 @main.command()
@@ -208,49 +387,6 @@ def explain(pattern, pattern_file, db, count_empty) -> None:
 
 
 # ------------------------------------------------------------------ presenting
-
-def result_to_text(result) -> str:
-    parts = [f"{result.location}", f"tree {result.tree_id}"]
-    for name, node in result.bindings.items():
-        shown = name if not name.startswith("_") else "match"
-        parts.append(f'{shown}={node.label} "{node.words}"')
-    return "  ".join(parts)
-
-
-def result_to_json(result) -> dict:
-    return {
-        "tree": result.tree_id,
-        "document": result.document,
-        "file": result.path,
-        "line": result.line,
-        "ordinal": result.ordinal,
-        "nodes": {
-            name: {
-                "id": node.id,
-                "label": node.label,
-                "category": node.category,
-                "functions": node.functions,
-                "span": [node.tok_first, node.tok_last],
-                "words": node.words,
-            }
-            for name, node in result.bindings.items()
-        },
-    }
-
-
-def write_csv(results, result_vars) -> None:
-    writer = csv.writer(sys.stdout, lineterminator="\n")
-    header = ["tree", "document", "file", "line"]
-    for name in result_vars:
-        header += [f"{name}.label", f"{name}.start", f"{name}.end", f"{name}.words"]
-    writer.writerow(header)
-    for result in results:
-        row = [result.tree_id, result.document, result.path, result.line]
-        for name in result_vars:
-            node = result.bindings[name]
-            row += [node.label, node.tok_first or "", node.tok_last or "", node.words]
-        writer.writerow(row)
-
 
 def plural(number: int, noun: str) -> str:
     return f"{number:,} {noun}{'' if number == 1 else 's'}"

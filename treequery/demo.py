@@ -26,8 +26,11 @@ def cache_dir() -> Path:
 
 
 def _demo_fingerprint(folder: Path) -> str:
-    # The index is rebuilt whenever the demo files change, e.g. after an upgrade.
+    # The index is rebuilt whenever the demo files or the indexing code change (an
+    # upgrade, a schema change), so a stale cached index is never used.
     digest = hashlib.sha256()
+    for path in sorted((PACKAGE_DIR / "index").glob("*.*")):  # code and head rules
+        digest.update(path.read_bytes())
     for path in sorted(folder.iterdir()):
         if path.is_file():
             digest.update(path.name.encode())

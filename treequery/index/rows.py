@@ -1,11 +1,17 @@
 """Trees into node rows: pre-order numbering, interval and span columns, label/word codes."""
 from __future__ import annotations
 
+import re
 import sqlite3
+import zlib
+from collections.abc import Generator, Iterable, Iterator
 from itertools import repeat
 from operator import itemgetter
+from pathlib import Path
 
+from ..read.brackets import read_file, read_text_chunks
 from ..read.labels import EMPTY_LABEL, decompose_label, empty_element, unescape_word
+from ..read.model import SkippedTree
 
 LABEL_OF = itemgetter(7)  # columns of a node row
 WORD_OF = itemgetter(8)
@@ -32,6 +38,36 @@ class CodeTables:
         self.next_label = (conn.execute("SELECT max(code) FROM label").fetchone()[0] or 0) + 1
         self.next_word = (conn.execute("SELECT max(code) FROM word").fetchone()[0] or 0) + 1
         self._reset_pending()
+
+    @classmethod
+    def from_state(cls, state: dict) -> CodeTables:
+        """Code tables rebuilt from `state()` (in a worker process, with no connection)."""
+        tables = cls.__new__(cls)
+        tables.__dict__.update(state)
+        tables._reset_pending()
+        return tables
+
+    def state(self) -> dict:
+        """What a worker process needs to hand out the same codes as this process."""
+        return {"labels": self.labels, "words": self.words, "forms": self.forms,
+                "empty_words": self.empty_words, "next_label": self.next_label,
+                "next_word": self.next_word}
+
+    def take_pending(self) -> tuple[list, list, list]:
+        """This file's new labels, new words and newly empty words; forgets them here."""
+        pending = (self.new_labels, self.new_words, self.newly_empty)
+        self._reset_pending()
+        return pending
+
+    @staticmethod
+    def write_pending(conn: sqlite3.Connection, pending: tuple[list, list, list]) -> None:
+        """Insert rows from `take_pending` (perhaps of another process's tables)."""
+        new_labels, new_words, newly_empty = pending
+        conn.executemany(INSERT_LABEL, new_labels)
+        conn.executemany(INSERT_WORD, new_words)
+        conn.executemany(
+            "UPDATE word SET empty_kind = ?, ref_index = ? WHERE code = ?", newly_empty
+        )
 
     def _reset_pending(self) -> None:
         self.new_labels: list[tuple] = []
@@ -71,12 +107,7 @@ class CodeTables:
         return element.kind, element.ref_index
 
     def flush(self, conn: sqlite3.Connection) -> None:
-        conn.executemany(INSERT_LABEL, self.new_labels)
-        conn.executemany(INSERT_WORD, self.new_words)
-        conn.executemany(
-            "UPDATE word SET empty_kind = ?, ref_index = ? WHERE code = ?", self.newly_empty
-        )
-        self._reset_pending()
+        self.write_pending(conn, self.take_pending())
 
     def rollback(self) -> None:
         for row in self.new_labels:
@@ -147,3 +178,196 @@ def node_rows(root, tree_id: int, first_id: int, codes: CodeTables) -> tuple[lis
         extend(zip(reversed(children), repeat(node_id), repeat(depth + 1),
                    range(n_children, 0, -1)))
     return rows, tokens
+
+
+# -- the fast path: bracketed text straight to flat node rows ---------------------------
+
+# Node rows of the fast path are flat lists of ints, 13 per node, with NO_VALUE where
+# the column is NULL: ints move between processes as raw bytes and bind to SQLite
+# without a Python tuple being built per node (the INSERT turns NO_VALUE into NULL).
+NO_VALUE = -1
+NODE_COLUMNS = 13
+INSERT_FLAT_NODE = ("INSERT INTO node VALUES (?,?,?,nullif(?,-1),?,?,?,?,nullif(?,-1),?,?,"
+                    "nullif(?,-1),nullif(?,-1))")
+FLAT_BATCH = 65_000 * NODE_COLUMNS  # values per batch handed to the writer
+
+# One findall over a chunk of whole lines. Groups: preterminal tag and word when the
+# whole `(TAG word)` sits on one line; the same spread over lines (tag, the space after
+# it, word, the space before ')'), which pretty-printers write for long words; the label
+# of an opening bracket; ')'; a line break before a '(' in column 1; any other line
+# break; text anywhere else. The
+# fast path knows only well-formed trees: everything unusual is left to the full
+# reader (see FastPathDeclined).
+_FAST_TOKEN = re.compile(
+    r"[ \t\r]*(?:"  # spaces before a token are eaten here: fewer failed match attempts
+    r"\(([^\s()]+)[^\S\n]+([^\s()]+)[^\S\n]*\)|\(([^\s()]+)(\s+)([^\s()]+)(\s*)\)"
+    r"|\(([^\s()]*)|(\))|(\n(?=\())|(\n)|([^\s()]+))"
+)
+
+
+class FastPathDeclined(Exception):
+    """The fast path met something only the full reader handles (bad input, odd layout)."""
+
+
+def fast_rows(chunks: Iterable[str], codes: CodeTables, first_node: int,
+              first_tree: int) -> Iterator[tuple[list[int], list[tuple]]]:
+    """Node rows and tree rows of well-formed bracketed text, batch by batch.
+
+    `chunks` are decoded runs of whole lines of one file. Yields (flat node rows,
+    tree rows without the document column) after whole trees, about FLAT_BATCH values
+    at a time. The rows equal those of `read_trees` + `node_rows` for the same text;
+    any input the full reader would report, or reads in a way this loop does not,
+    raises FastPathDeclined instead (the caller then reads the file the full way).
+    """
+    labels, words, empty_words, forms = codes.labels, codes.words, codes.empty_words, codes.forms
+    new_label, new_word = codes.label, codes.word
+    flat: list[int] = []
+    extend = flat.extend
+    trees: list[tuple] = []
+    ids: list[int] = []  # open phrases: their ids, row offsets and children so far
+    offsets: list[int] = []
+    kids: list[int] = []
+    node_id, tree_id, ordinal, line = first_node, first_tree, 0, 1
+    root = tree_line = leaf = tok = 0
+    tokens: list[int] = []
+    for chunk in chunks:
+        if ids and chunk[:1] == "(":
+            raise FastPathDeclined("a '(' in column 1 inside an open tree")
+        for (tag, word, long_tag, space_before, long_word, space_after, label, close,
+             column_one, newline, other) in _FAST_TOKEN.findall(chunk):
+            if tag or long_tag:  # (TAG word)
+                if long_tag:  # over several lines: rare, so turned into the usual case
+                    if not ids:
+                        raise FastPathDeclined("a one-node tree over several lines")
+                    tag, word = long_tag, long_word
+                    line += space_before.count("\n") + space_after.count("\n")
+                if ids:
+                    kids[-1] += 1
+                    parent, position, depth = ids[-1], kids[-1], len(ids)
+                else:  # a tree that is one preterminal
+                    ordinal += 1
+                    root, tree_line, leaf, tok, tokens = node_id, line, 0, 0, []
+                    parent, position, depth = NO_VALUE, 1, 0
+                code = labels.get(tag) or new_label(tag)
+                leaf += 1
+                if tag == EMPTY_LABEL:
+                    word_code = words.get(word) or new_word(word, True)
+                    if word_code not in empty_words:
+                        codes.mark_empty(word_code, word)
+                    extend((node_id, node_id, tree_id, parent, depth, position, 0, code,
+                            word_code, leaf, leaf, NO_VALUE, NO_VALUE))
+                else:
+                    word_code = words.get(word) or new_word(word, False)
+                    tok += 1
+                    tokens.append(word_code)
+                    extend((node_id, node_id, tree_id, parent, depth, position, 0, code,
+                            word_code, leaf, leaf, tok, tok))
+                node_id += 1
+                if ids:
+                    continue
+            elif label:  # (LABEL
+                if ids:
+                    kids[-1] += 1
+                    parent, position, depth = ids[-1], kids[-1], len(ids)
+                else:
+                    ordinal += 1
+                    root, tree_line, leaf, tok, tokens = node_id, line, 0, 0, []
+                    parent, position, depth = NO_VALUE, 1, 0
+                code = labels.get(label) or new_label(label)
+                offsets.append(len(flat))
+                ids.append(node_id)
+                kids.append(0)
+                extend((node_id, 0, tree_id, parent, depth, position, 0, code, NO_VALUE,
+                        leaf + 1, 0, tok + 1, NO_VALUE))
+                node_id += 1
+                continue
+            elif close:
+                if not ids or not kids[-1]:
+                    raise FastPathDeclined("')' with no open bracket, or an empty bracket")
+                offset = offsets.pop()
+                ids.pop()
+                flat[offset + 1] = node_id - 1
+                flat[offset + 6] = kids.pop()
+                flat[offset + 10] = leaf
+                if tok >= flat[offset + 11]:
+                    flat[offset + 12] = tok
+                else:
+                    flat[offset + 11] = NO_VALUE
+                if ids:
+                    continue
+            elif newline:
+                line += 1
+                continue
+            elif column_one:
+                line += 1
+                if ids:
+                    raise FastPathDeclined("a '(' in column 1 inside an open tree")
+                continue
+            elif other or ids:  # stray text, or an unlabelled bracket inside a tree
+                raise FastPathDeclined("text outside a (TAG word) pair, or a missing label")
+            else:  # '(' with no label: the outer bracket of a tree
+                ordinal += 1
+                root, tree_line, leaf, tok, tokens = node_id, line, 0, 0, []
+                code = labels.get("") or new_label("")
+                offsets.append(len(flat))
+                ids.append(node_id)
+                kids.append(0)
+                extend((node_id, 0, tree_id, NO_VALUE, 0, 1, 0, code, NO_VALUE,
+                        1, 0, 1, NO_VALUE))
+                node_id += 1
+                continue
+            # a tree has just closed
+            trees.append((tree_id, ordinal, tree_line, root,
+                          node_id - 1, tok, leaf, " ".join(map(forms.__getitem__, tokens))))
+            tree_id += 1
+            if len(flat) >= FLAT_BATCH:
+                yield flat, trees
+                flat, trees = [], []
+                extend = flat.extend
+    if ids:
+        raise FastPathDeclined("a tree still open at the end of the file")
+    if flat or trees:
+        yield flat, trees
+
+
+# What the fast path's readers raise on input they leave to the full reader.
+_DECLINED = (FastPathDeclined, UnicodeDecodeError, OSError, EOFError, zlib.error)
+RESTART = "restart"  # yielded by file_rows: forget this file's rows so far
+
+
+def file_rows(path: str | Path, codes: CodeTables, first_node: int, first_tree: int,
+              strict: bool = False) -> Generator[tuple | str, None, list[SkippedTree]]:
+    """The rows of one file, batch by batch, as (flat node rows, tree rows); returns the
+    trees skipped.
+
+    Tries the fast path first. If it declines, the codes it handed out are taken back,
+    RESTART is yielded (the consumer drops the rows it has of this file) and the file
+    is read again by the full reader, which reports bad trees (or raises
+    TreebankFormatError: strict mode, unreadable file).
+    """
+    try:
+        yield from fast_rows(read_text_chunks(path), codes, first_node, first_tree)
+        return []
+    except _DECLINED:
+        codes.rollback()
+    yield RESTART
+    skipped: list[SkippedTree] = []
+    flat: list = []
+    trees: list[tuple] = []
+    node_id, tree_id = first_node, first_tree
+    for item in read_file(path, strict=strict):
+        if isinstance(item, SkippedTree):
+            skipped.append(item)
+            continue
+        rows, tokens = node_rows(item.root, tree_id, node_id, codes)
+        flat.extend(NO_VALUE if value is None else value for row in rows for value in row)
+        trees.append((tree_id, item.ordinal, item.line, node_id, node_id + len(rows) - 1,
+                      len(tokens), rows[0][10], " ".join(map(codes.forms.__getitem__, tokens))))
+        node_id += len(rows)
+        tree_id += 1
+        if len(flat) >= FLAT_BATCH:
+            yield flat, trees
+            flat, trees = [], []
+    if flat or trees:
+        yield flat, trees
+    return skipped

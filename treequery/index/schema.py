@@ -91,6 +91,35 @@ CREATE TABLE IF NOT EXISTS node (
     tok_first  INTEGER,                      -- 1-based, overt words only; NULL when the
     tok_last   INTEGER                       -- node covers no overt word
 );
+
+-- Added for heads, c-command and coindexation (treequery/index/linguistics.py fills
+-- them after the nodes are loaded). Values are offsets from the node's own id, so
+-- they are small numbers that SQLite stores in one or two bytes.
+CREATE TABLE IF NOT EXISTS node_syntax (
+    id           INTEGER PRIMARY KEY,        -- node.id
+    head         INTEGER NOT NULL,           -- lexical head's id - id (0 on preterminals)
+    branch_up    INTEGER,                    -- id - id of the first ancestor with >= 2
+                                             -- children; NULL when there is none
+    branch_reach INTEGER                     -- that ancestor's last - id
+);
+
+-- Coindexation resolved within each tree (Bies et al. 1995): kind 'coindex' links a
+-- constituent labelled -n to an empty element written with -n (*T*-1, *-2, *ICH*-3);
+-- kind 'gap' links a constituent labelled -n to the gapped one labelled =n.
+CREATE TABLE IF NOT EXISTS link (
+    antecedent INTEGER NOT NULL,             -- node.id of the -n constituent
+    target     INTEGER NOT NULL,             -- node.id of the empty element / =n node
+    kind       TEXT NOT NULL,
+    PRIMARY KEY (antecedent, target, kind)
+) WITHOUT ROWID;
+CREATE INDEX IF NOT EXISTS link_target ON link(target, antecedent);
+
+-- Deleting nodes (re-indexing a document) deletes what was computed for them; a link
+-- never leaves its tree, so its antecedent goes with it.
+CREATE TRIGGER IF NOT EXISTS node_syntax_follows_node AFTER DELETE ON node BEGIN
+    DELETE FROM node_syntax WHERE id = old.id;
+    DELETE FROM link WHERE antecedent = old.id;
+END;
 """
 
 # Created after a bulk load, not before: building an index once is faster than

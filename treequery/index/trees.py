@@ -1,7 +1,11 @@
-"""Trees back out of the index: rebuilding ParsedNode trees, bracket notation, locations."""
+"""Trees back out of the index: rebuilt trees (with or without node ids), brackets, locations."""
 from __future__ import annotations
 
+import gzip
 import sqlite3
+from collections.abc import Iterator
+from dataclasses import dataclass
+from pathlib import Path
 
 from ..errors import TreequeryError
 from ..read.model import ParsedNode
@@ -99,3 +103,164 @@ def _separated(parent: ParsedNode, depth: int, indent: bool) -> list[tuple[Parse
         result.append((child, " " if inline else newline))
         previous_preterminal = child.word is not None
     return result
+
+
+# ---------------------------------------------------------------- trees with node ids
+
+@dataclass(frozen=True, slots=True)
+class TreeNode:
+    """One node of a tree read back from the index, with its id so results can mark it.
+
+    `word` is the word as written (escapes kept) on a preterminal, else None; `form`
+    is the un-escaped word; `empty` is True for a preterminal that is not an overt token
+    (an empty element), exactly the leaves that token spans skip.
+    `tok_first`/`tok_last` are the 1-based overt-token span (None when no overt word).
+    """
+
+    id: int
+    label: str
+    word: str | None
+    form: str | None
+    empty: bool
+    tok_first: int | None
+    tok_last: int | None
+    children: tuple[TreeNode, ...] = ()
+
+    def walk(self) -> Iterator[TreeNode]:
+        """Every node of the subtree in pre-order (iterative: trees may be deep)."""
+        stack = [self]
+        while stack:
+            node = stack.pop()
+            yield node
+            stack.extend(reversed(node.children))
+
+    def leaves(self) -> list[TreeNode]:
+        """The preterminals in order, empty elements included."""
+        return [node for node in self.walk() if node.word is not None]
+
+    def tokens(self) -> list[str]:
+        """The overt words in order, un-escaped: what token spans count."""
+        return [node.form for node in self.leaves() if not node.empty and node.form is not None]
+
+    def find(self, node_id: int) -> TreeNode | None:
+        return next((node for node in self.walk() if node.id == node_id), None)
+
+
+LOAD_TREE_NODES = """
+SELECT node.id, node.parent, label.text, word.text, word.form,
+       node.word IS NOT NULL AND node.tok_first IS NULL,
+       node.tok_first, node.tok_last
+FROM node
+JOIN label ON label.code = node.label
+LEFT JOIN word ON word.code = node.word
+WHERE node.id BETWEEN ? AND ?
+ORDER BY node.id
+"""
+
+
+def load_tree_nodes(conn: sqlite3.Connection, tree_id: int) -> TreeNode:
+    """Tree `tree_id` as TreeNode objects carrying their node ids.
+
+    Frozen nodes are built children first: in pre-order every child has a larger id
+    than its parent, so walking the rows backwards finds each node's children built.
+    """
+    first, last, _ = _tree_range(conn, tree_id)
+    rows = conn.execute(LOAD_TREE_NODES, (first, last)).fetchall()
+    if not rows:
+        raise TreequeryError(f"tree {tree_id} has no nodes in the index")
+    children: dict[int, list[TreeNode]] = {}
+    built: TreeNode | None = None
+    for node_id, parent, label, word, form, empty, tok_first, tok_last in reversed(rows):
+        kids = tuple(reversed(children.pop(node_id, [])))
+        built = TreeNode(node_id, label, word, form, bool(empty), tok_first, tok_last, kids)
+        if parent is not None:
+            children.setdefault(parent, []).append(built)
+    return built
+
+
+# Attribute values of one node, defined as the pattern language defines them
+# (grammar/README.md, "Attributes"), for sorting results by `var.attr`.
+NODE_ATTRIBUTES = """
+SELECT label.category, label.text, label.functions, word.form, label.coindex, label.gapindex,
+       node.n_children, IFNULL(node.tok_last - node.tok_first + 1, 0),
+       node.leaf_last - node.leaf_first + 1, node.depth, node.position,
+       node.tok_first, node.tok_last, label.category = '-NONE-', node.word IS NOT NULL
+FROM node
+JOIN label ON label.code = node.label
+LEFT JOIN word ON word.code = node.word
+WHERE node.id = ?
+"""
+NODE_ATTRIBUTE_NAMES = ("category", "label", "functions", "word", "index", "gap", "children",
+                        "tokens", "leaves", "depth", "position", "start", "end", "empty",
+                        "preterminal")
+
+
+def node_attributes(conn: sqlite3.Connection, node_id: int) -> dict[str, object]:
+    """Every attribute of node `node_id` by its pattern-language name."""
+    row = conn.execute(NODE_ATTRIBUTES, (node_id,)).fetchone()
+    if row is None:
+        raise TreequeryError(f"there is no node {node_id} in the index")
+    values = dict(zip(NODE_ATTRIBUTE_NAMES, row, strict=True))
+    for flag in ("empty", "preterminal"):
+        values[flag] = bool(values[flag])
+    return values
+
+
+# ---------------------------------------------------------------- trees by file and line
+
+def tree_at_line(conn: sqlite3.Connection, path: str, line: int) -> int:
+    """The id of the tree whose brackets span `line` of the file `path`.
+
+    `path` may be the stored (absolute) path, a path relative to the working folder,
+    or any trailing part of the stored path (`wsj_0001.mrg`, `sample/wsj_0001.mrg`).
+    The tree table keeps only each tree's first line, so the candidate is the last
+    tree starting at or before `line`; its end is found by counting brackets in the
+    source file, so a line between two trees is reported rather than misattributed.
+    """
+    document, stored = _document_for(conn, path)
+    row = conn.execute(
+        "SELECT id, line FROM tree WHERE document = ? AND line <= ? ORDER BY line DESC LIMIT 1",
+        (document, line)).fetchone()
+    if row is None:
+        raise TreequeryError(f"{path}:{line}: no tree starts at or before this line")
+    tree_id, start = row
+    end = _tree_end_line(stored, start)
+    if end is not None and line > end:
+        raise TreequeryError(
+            f"{path}:{line}: not inside a tree (tree {tree_id} spans lines {start}-{end})")
+    return tree_id
+
+
+def _document_for(conn: sqlite3.Connection, path: str) -> tuple[int, str]:
+    documents = conn.execute("SELECT id, path FROM document").fetchall()
+    wanted = Path(path)
+    resolved = str(wanted.resolve()) if wanted.exists() else None
+    exact = [(d, p) for d, p in documents if p == path or p == resolved]
+    if exact:
+        return exact[0]
+    suffix = "/" + wanted.as_posix().lstrip("./")
+    matches = [(d, p) for d, p in documents if Path(p).as_posix().endswith(suffix)]
+    if not matches:
+        raise TreequeryError(f"no indexed file matches {path!r}")
+    if len(matches) > 1:
+        shown = ", ".join(p for _, p in matches[:5])
+        raise TreequeryError(f"{path!r} matches several indexed files: {shown}; give more of "
+                             "the path")
+    return matches[0]
+
+
+def _tree_end_line(path: str, start: int) -> int | None:
+    """The line on which the tree starting at `start` closes, or None if unreadable."""
+    try:
+        opener = gzip.open if path.endswith(".gz") else open
+        with opener(path, "rt", encoding="utf-8", errors="replace") as handle:
+            depth, number = 0, 0
+            for number, text in enumerate(handle, 1):
+                if number < start:
+                    continue
+                depth += text.count("(") - text.count(")")
+                if depth <= 0 and number >= start:
+                    return number
+            return number
+    except OSError:
+        return None

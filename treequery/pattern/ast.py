@@ -60,14 +60,14 @@ class CategoryRegex:
 class LabelOneOf:
     """`NP|NX|/^WH/`: any of the alternatives."""
 
-    options: tuple["LabelTest", ...]
+    options: tuple[LabelTest, ...]
 
 
 @dataclass(frozen=True, slots=True)
 class LabelNot:
     """`!PP`, `!NP|PP`: a node whose label fails the inner test."""
 
-    inner: "LabelTest"
+    inner: LabelTest
 
 
 LabelTest = Union[AnyLabel, CategoryIs, CategoryRegex, LabelOneOf, LabelNot]
@@ -116,6 +116,23 @@ class NodeVar:
 #   last-child-of          left is the last child of right
 #   only-child-of          left is the only child of right
 #   same-node              left and right are the same node (from `a = b`)
+# Issue 4 (grammar/README.md gives each one's published definition and source):
+#   coindexed-with         a coindexation link joins them, either way, of either
+#                          kind (symmetric)
+#   antecedent-of          left's label carries index n, right is an empty element
+#                          written with -n (*T*-1, *-2, ...), same tree
+#   correspondent-of       left's label carries index -n, right's label =n (gapping)
+#   c-commands             neither dominates the other, left != right, and the first
+#                          ancestor of left with >= 2 children dominates right
+#   head-of                left is the head child of right (by the index's head rules)
+#   lexical-head-of        left is the preterminal that is the lexical head of the
+#                          phrase right
+#   same-span-as           different nodes of one tree with the same first and the
+#                          same last token, so one dominates the other (symmetric)
+#   starts-with            left dominates right and both begin at the same token
+#   ends-with              left dominates right and both end at the same token
+# Tokens for same-span-as / starts-with / ends-with are those of precedes: by default
+# overt words only (a node with none takes no part); count_empty counts every leaf.
 # Tokens for precedes / just-before: by default only overt words count, and a node
 # that covers no overt word (an empty element, or a constituent of empty elements
 # only) neither precedes nor follows anything. With `count_empty=True` every leaf
@@ -132,6 +149,15 @@ RELATION_KINDS = (
     "last-child-of",
     "only-child-of",
     "same-node",
+    "coindexed-with",
+    "antecedent-of",
+    "correspondent-of",
+    "c-commands",
+    "head-of",
+    "lexical-head-of",
+    "same-span-as",
+    "starts-with",
+    "ends-with",
 )
 
 
@@ -162,6 +188,13 @@ class Relation:
 #   end         int   1-based position of the last overt word (missing if none)
 #   empty       bool  the node is an empty element (-NONE- preterminal)
 #   preterminal bool  the node has a word
+#   kind        str   kind of empty element (movement-trace, null-subject, ...; missing
+#                     on other nodes)
+#   refindex    int   the index written on an empty element's word (*T*-1 -> 1)
+#   headword    str   un-escaped word of the node's lexical head
+#   headtag     str   category of the node's lexical head (its part of speech)
+#   silent      bool  the node covers no overt word (an empty element or a
+#                     constituent made only of empty elements)
 ATTRIBUTES: dict[str, str] = {
     "category": "str",
     "label": "str",
@@ -178,6 +211,11 @@ ATTRIBUTES: dict[str, str] = {
     "end": "int",
     "empty": "bool",
     "preterminal": "bool",
+    "kind": "str",
+    "refindex": "int",
+    "headword": "str",
+    "headtag": "str",
+    "silent": "bool",
 }
 
 
@@ -218,17 +256,17 @@ class Flag:
 
 @dataclass(frozen=True, slots=True)
 class And:
-    items: tuple["Condition", ...]
+    items: tuple[Condition, ...]
 
 
 @dataclass(frozen=True, slots=True)
 class Or:
-    items: tuple["Condition", ...]
+    items: tuple[Condition, ...]
 
 
 @dataclass(frozen=True, slots=True)
 class Not:
-    item: "Condition"
+    item: Condition
     span: Span
 
 
@@ -239,7 +277,7 @@ class Exists:
     satisfying their node tests and `condition`."""
 
     vars: tuple[NodeVar, ...]
-    condition: "Condition"
+    condition: Condition
 
 
 Condition = Union[Relation, Compare, Flag, And, Or, Not, Exists]

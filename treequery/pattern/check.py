@@ -35,7 +35,7 @@ from treequery.pattern.parse import parse_pattern, unescape
 
 # Smallest value each count can take (a node's position and word positions are 1-based).
 MINIMUM = {"children": 0, "tokens": 0, "leaves": 0, "depth": 0, "position": 1,
-           "start": 1, "end": 1, "index": 0, "gap": 0}
+           "start": 1, "end": 1, "index": 0, "gap": 0, "refindex": 0}
 TYPE_WORDS = {"str": "text", "int": "a number", "bool": "a yes/no attribute"}
 REGEX_LITERAL = re.compile(r"/(?:[^/\\\n]|\\.)+/")
 

@@ -13,7 +13,7 @@ from dataclasses import dataclass, replace
 
 import regex
 
-from treequery.errors import PatternCheckError
+from treequery.errors import PatternCheckError, TreequeryError
 from treequery.pattern.ast import (
     AnyLabel,
     CategoryIs,
@@ -30,7 +30,7 @@ from treequery.pattern.ast import (
     Pattern,
     Relation,
 )
-from treequery.pattern.sql import anchors, compile_regex, conjuncts
+from treequery.pattern.sql import SYNTAX_RELATIONS, anchors, compile_regex, conjuncts
 
 # Shape of typical constituency trees, used to guess how many candidates a probe
 # meets (common practice: rough constants; only their order of magnitude matters).
@@ -55,7 +55,26 @@ ACCESS_TEXT = {
     "subtree": "id range of {via}'s subtree (label index + id range)",
     "ancestors": "ancestors of {via}: tree's id range before {via}",
     "tree": "id range of the tree (label index + id range)",
+    "linked": "coindexed with {via} (link table + primary key)",
+    "scope": "c-command scope of {via}: its first branching ancestor's id range",
+    "head": "lexical head of {via} (primary key)",
 }
+
+# issue 4 relations: (kind, the reached variable is the left operand) -> access, size
+SYNTAX_ACCESS = {
+    ("coindexed-with", True): ("linked", 1.0), ("coindexed-with", False): ("linked", 1.0),
+    ("antecedent-of", True): ("linked", 1.0), ("antecedent-of", False): ("linked", 1.0),
+    ("correspondent-of", True): ("linked", 1.0), ("correspondent-of", False): ("linked", 1.0),
+    ("c-commands", False): ("scope", 2 * AVG_DEPTH),
+    ("head-of", True): ("children", AVG_CHILDREN), ("head-of", False): ("parent", 1.0),
+    ("lexical-head-of", True): ("head", 1.0),
+    ("starts-with", False): ("subtree", AVG_DEPTH + 1),
+    ("ends-with", False): ("subtree", AVG_DEPTH + 1),
+}
+# Relations in which the left node dominates the right one: the left can be found
+# among the right's ancestors.
+DOMINATING_KINDS = ("dominates", "starts-with", "ends-with")
+SYNTAX_KINDS = frozenset(SYNTAX_RELATIONS) - {"same-span-as", "starts-with", "ends-with"}
 
 
 @dataclass(frozen=True, slots=True)
@@ -141,8 +160,11 @@ class _Stats:
 
 def _load_stats(conn: sqlite3.Connection) -> _Stats:
     labels = tuple(conn.execute("SELECT category, functions, n_nodes FROM label"))
-    total = conn.execute(
-        "SELECT IFNULL(MAX(id), 0) - IFNULL(MIN(id), 1) + 1 FROM node").fetchone()[0]
+    # Two queries: SQLite answers a lone MIN() or MAX() from the primary key at once,
+    # but scans the whole table when both stand in one SELECT.
+    highest = conn.execute("SELECT MAX(id) FROM node").fetchone()[0] or 0
+    lowest = conn.execute("SELECT MIN(id) FROM node").fetchone()[0] or 1
+    total = highest - lowest + 1
     trees = conn.execute("SELECT COUNT(*) FROM tree").fetchone()[0]
     counted = sum(n for _, _, n in labels) > 0
     analyzed = conn.execute(
@@ -243,7 +265,7 @@ def _reach(cond: Condition, name: str, placed: set[str]) -> tuple[str, str | Non
             best, best_size = (access, other, size), size
     if best[0] == "tree":
         for rel in conjuncts(cond):  # ancestors: bounded by the tree, cut at the descendant
-            if isinstance(rel, Relation) and rel.kind == "dominates" and rel.left == name \
+            if isinstance(rel, Relation) and rel.kind in DOMINATING_KINDS and rel.left == name \
                     and rel.right in placed:
                 return "ancestors", rel.right, AVG_DEPTH
         return "tree", sorted(placed)[0], -1.0
@@ -253,6 +275,8 @@ def _reach(cond: Condition, name: str, placed: set[str]) -> tuple[str, str | Non
 def _access(rel: Relation, name: str) -> tuple[str, float]:
     if rel.kind == "same-node":
         return "same", 1.0
+    if (rel.kind, rel.left == name) in SYNTAX_ACCESS:
+        return SYNTAX_ACCESS[(rel.kind, rel.left == name)]
     if rel.kind == "dominates":
         if rel.max_depth == 1:
             return "children", AVG_CHILDREN
@@ -295,6 +319,41 @@ def _orders(variables: tuple[NodeVar, ...], cond: Condition, matches: dict[str, 
         yield tuple(order)
 
 
+SYNTAX_ATTRIBUTES = frozenset({"headword", "headtag"})
+
+
+def _uses_syntax_index(pattern: Pattern) -> bool:
+    """Whether the pattern needs node_syntax / link (issue 4 relations and head attributes)."""
+    def walk(cond: Condition) -> bool:
+        if isinstance(cond, Relation):
+            return cond.kind in SYNTAX_KINDS
+        if isinstance(cond, Compare):
+            names = {cond.left.name} | ({cond.right.name} if hasattr(cond.right, "name")
+                                         else set())
+            return bool(names & SYNTAX_ATTRIBUTES)
+        if isinstance(cond, Exists):
+            return walk(cond.condition)
+        if isinstance(cond, Not):
+            return walk(cond.item)
+        return any(walk(item) for item in getattr(cond, "items", ()))
+
+    return walk(pattern.condition)
+
+
+def _check_syntax_index(conn: sqlite3.Connection, pattern: Pattern) -> None:
+    """An index built before heads and links were indexed cannot answer such patterns."""
+    if not _uses_syntax_index(pattern):
+        return
+    has_table = conn.execute("SELECT count(*) FROM sqlite_master WHERE type = 'table' "
+                             "AND name = 'node_syntax'").fetchone()[0]
+    if has_table and (conn.execute("SELECT EXISTS (SELECT 1 FROM node_syntax)").fetchone()[0]
+                      or not conn.execute("SELECT EXISTS (SELECT 1 FROM node)").fetchone()[0]):
+        return
+    raise TreequeryError(
+        "this index was built before heads, c-command and coindexation were indexed; "
+        "run `treequery index --db DB` on its files again to add them")
+
+
 def make_plan(conn: sqlite3.Connection, pattern: Pattern, count_empty: bool = False,
               order: Sequence[str] | None = None) -> Plan:
     """Choose the join order of the pattern's top-level nodes from the index statistics.
@@ -304,6 +363,7 @@ def make_plan(conn: sqlite3.Connection, pattern: Pattern, count_empty: bool = Fa
     if not pattern.vars:
         raise PatternCheckError("the pattern has no node", pattern.text, 0)
     _check_regexes(pattern)
+    _check_syntax_index(conn, pattern)
     stats = _load_stats(conn)
     matches = {v.name: _estimate(conn, stats, v) for v in pattern.vars}
     tree_size = stats.total_nodes / max(stats.total_trees, 1)

@@ -79,7 +79,18 @@ _ANCHOR_SIDES = {
     ("immediate-left-sister-of", "left"), ("immediate-left-sister-of", "right"),
     ("same-node", "left"), ("same-node", "right"),
     ("dominates", "right"),
+    # issue 4: link-table lookups, id ranges and the head's id
+    ("coindexed-with", "left"), ("coindexed-with", "right"),
+    ("antecedent-of", "left"), ("antecedent-of", "right"),
+    ("correspondent-of", "left"), ("correspondent-of", "right"),
+    ("c-commands", "right"),
+    ("head-of", "left"), ("head-of", "right"),
+    ("lexical-head-of", "left"),
+    ("starts-with", "right"), ("ends-with", "right"),
 }
+
+# Kinds of rows in the link table (treequery/index/linguistics.py), by relation.
+LINK_KINDS = {"antecedent-of": "coindex", "correspondent-of": "gap"}
 
 
 # ---------------------------------------------------------------- regexp function
@@ -249,8 +260,82 @@ class _Generator:
             return f"({a}.parent = {b}.id AND +{b}.n_children = 1)"
         if kind == "same-node":
             return f"{a}.id = {b}.id"
+        if kind in SYNTAX_RELATIONS:
+            return getattr(self, SYNTAX_RELATIONS[kind])(rel, a, b)
         raise PatternCheckError(f"unknown relation {kind!r}", self.plan.pattern.text,
                                 rel.span.start)
+
+    # ------------------------------------------------------------ issue 4 relations
+
+    def syntax(self, alias: str, column: str) -> str:
+        """A node_syntax column of a node (offsets from the node's id; schema.py)."""
+        return f"(SELECT {column} FROM node_syntax WHERE id = {alias}.id)"
+
+    def later(self, first: str, second: str) -> bool:
+        """Whether alias `second` is joined after `first` (it can then be probed)."""
+        return int(second[1:]) > int(first[1:])
+
+    def linked(self, rel: Relation, a: str, b: str) -> str:
+        """A link-table lookup written so that the later of the two nodes is probed."""
+        kinds = ("antecedent-of", "correspondent-of") if rel.kind == "coindexed-with" \
+            else (rel.kind,)
+        kind_test = " OR ".join(f"kind = {self.param(LINK_KINDS[k])}" for k in kinds)
+        forward = (f"SELECT target FROM link WHERE antecedent = {a}.id AND ({kind_test})",
+                   f"SELECT antecedent FROM link WHERE target = {b}.id AND ({kind_test})")
+        probe_b = self.later(a, b)
+        first = f"{b}.id IN ({forward[0]})" if probe_b else f"{a}.id IN ({forward[1]})"
+        if rel.kind != "coindexed-with":
+            return first
+        backward = (f"SELECT antecedent FROM link WHERE target = {a}.id AND ({kind_test})",
+                    f"SELECT target FROM link WHERE antecedent = {b}.id AND ({kind_test})")
+        second = f"{b}.id IN ({backward[0]})" if probe_b else f"{a}.id IN ({backward[1]})"
+        return f"({first} OR {second})"
+
+    def c_commands(self, rel: Relation, a: str, b: str) -> str:
+        # Reinhart 1976: b inside the subtree of a's first branching ancestor, and
+        # neither node dominates the other (nor is the other).
+        low = f"{a}.id - {self.syntax(a, 'branch_up')}"
+        high = f"{a}.id + {self.syntax(a, 'branch_reach')}"
+        return (f"({b}.id BETWEEN {low} AND {high} AND {a}.id <> {b}.id"
+                f" AND NOT ({b}.id > {a}.id AND {b}.id <= {a}.last)"
+                f" AND NOT ({b}.id < {a}.id AND {b}.last >= {a}.id))")
+
+    def head_of(self, rel: Relation, a: str, b: str) -> str:
+        # The head child is the child that shares the phrase's lexical head.
+        return (f"({a}.parent = {b}.id AND "
+                f"{a}.id + {self.syntax(a, 'head')} = {b}.id + {self.syntax(b, 'head')})")
+
+    def lexical_head_of(self, rel: Relation, a: str, b: str) -> str:
+        return f"({a}.id = {b}.id + {self.syntax(b, 'head')} AND {a}.id <> {b}.id)"
+
+    def token_columns(self) -> tuple[str, str]:
+        return (("leaf_first", "leaf_last") if self.plan.count_empty
+                else ("tok_first", "tok_last"))
+
+    def same_span(self, rel: Relation, a: str, b: str) -> str:
+        # Token spans of two nodes are nested or apart: equal spans mean one node
+        # dominates the other through a unary chain (empty elements aside by default).
+        first, last = self.token_columns()
+        return (f"({_same_tree(a, b)} AND {a}.id <> {b}.id"
+                f" AND +{a}.{first} = +{b}.{first} AND +{a}.{last} = +{b}.{last})")
+
+    def edge(self, rel: Relation, a: str, b: str) -> str:
+        first, last = self.token_columns()
+        column = first if rel.kind == "starts-with" else last
+        return f"({b}.id > {a}.id AND {b}.id <= {a}.last AND +{a}.{column} = +{b}.{column})"
+
+    def head_value(self, a: str, table: str, column: str) -> str:
+        """A column of the label / word row of the node's lexical head."""
+        head = f"{a}.id + {self.syntax(a, 'head')}"
+        code = "label" if table == "label" else "word"
+        return (f"(SELECT x.{column} FROM node AS h JOIN {table} AS x ON x.code = h.{code} "
+                f"WHERE h.id = {head})")
+
+    def empty_value(self, a: str, column: str) -> str:
+        """A column of an empty element's word row (missing on every other node)."""
+        empty = self.param(EMPTY_CATEGORY)
+        return (f"(SELECT {column} FROM word WHERE code = {a}.word AND {a}.label IN "
+                f"(SELECT code FROM label WHERE category = {empty}))")
 
     def attr_type(self, attr: Attr) -> str:
         kind = ATTRIBUTES.get(attr.name)
@@ -267,8 +352,14 @@ class _Generator:
             return f"(SELECT {LABEL_COLUMNS[attr.name]} FROM label WHERE code = {a}.label)"
         if attr.name == "word":
             return f"(SELECT form FROM word WHERE code = {a}.word)"
-        if attr.name == "empty":
+        if attr.name in ("empty", "silent"):
             return f"({self.flag(attr)})"
+        if attr.name in ("kind", "refindex"):
+            return self.empty_value(a, "empty_kind" if attr.name == "kind" else "ref_index")
+        if attr.name == "headword":
+            return self.head_value(a, "word", "form")
+        if attr.name == "headtag":
+            return self.head_value(a, "label", "category")
         return NODE_EXPRESSIONS[attr.name].format(a=a)
 
     def flag(self, attr: Attr) -> str:
@@ -278,6 +369,8 @@ class _Generator:
             return f"{a}.label IN (SELECT code FROM label WHERE category = {empty})"
         if attr.name == "preterminal":
             return f"{a}.word IS NOT NULL"
+        if attr.name == "silent":
+            return f"{a}.tok_first IS NULL"
         raise PatternCheckError(f"{attr.name!r} is not a yes/no attribute", self.plan.pattern.text,
                                 attr.span.start)
 
@@ -313,6 +406,20 @@ class _Generator:
         where += [self.condition(c) for c in conjuncts(ex.condition)]
         froms = ", ".join(f"node AS {a}" for a in aliases)
         return f"EXISTS (SELECT 1 FROM {froms} WHERE {' AND '.join(where) or '1'})"
+
+
+# issue 4 relations -> the _Generator method that writes them
+SYNTAX_RELATIONS = {
+    "coindexed-with": "linked",
+    "antecedent-of": "linked",
+    "correspondent-of": "linked",
+    "c-commands": "c_commands",
+    "head-of": "head_of",
+    "lexical-head-of": "lexical_head_of",
+    "same-span-as": "same_span",
+    "starts-with": "edge",
+    "ends-with": "edge",
+}
 
 
 def _same_tree(a: str, b: str) -> str:

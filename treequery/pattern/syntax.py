@@ -28,6 +28,22 @@ RELATION_WORDS: dict[str, tuple[str, bool]] = {
     "has-last-child": ("last-child-of", True),
     "only-child-of": ("only-child-of", False),
     "has-only-child": ("only-child-of", True),
+    "coindexed-with": ("coindexed-with", False),
+    "antecedent-of": ("antecedent-of", False),
+    "trace-of": ("antecedent-of", True),
+    "correspondent-of": ("correspondent-of", False),
+    "remnant-of": ("correspondent-of", True),
+    "c-commands": ("c-commands", False),
+    "c-commanded-by": ("c-commands", True),
+    "head-of": ("head-of", False),
+    "has-head": ("head-of", True),
+    "lexical-head-of": ("lexical-head-of", False),
+    "has-lexical-head": ("lexical-head-of", True),
+    "same-span-as": ("same-span-as", False),
+    "starts-with": ("starts-with", False),
+    "at-start-of": ("starts-with", True),
+    "ends-with": ("ends-with", False),
+    "at-end-of": ("ends-with", True),
 }
 
 KEYWORDS = frozenset({"not", "or", "within", "at", "depth"})

@@ -106,6 +106,32 @@ def read_file(path: str | Path, strict: bool = False) -> Iterator[Item]:
         raise TreebankFormatError(f"{what}: {exc}", source, position[0] + 1, 0) from exc
 
 
+def read_text_chunks(path: str | Path, chunk_bytes: int = 1 << 20) -> Iterator[str]:
+    """A file (plain or .gz) as decoded runs of whole lines, about `chunk_bytes` each.
+
+    For fast consumers that read well-formed files in bulk (the index builder): no
+    recovery here, so invalid UTF-8 raises UnicodeDecodeError and an unreadable or
+    truncated file raises OSError / EOFError / zlib.error; such callers then read the
+    file with `read_file`, which reports the problem with its position.
+    """
+    with _open(Path(path)) as handle:
+        rest = handle.read(chunk_bytes)
+        if rest.startswith(b"\xef\xbb\xbf"):
+            rest = rest[3:]  # a UTF-8 byte order mark is not part of the text
+        while True:
+            more = handle.read(chunk_bytes)
+            if not more:
+                if rest:
+                    yield rest.decode("utf-8")
+                return
+            cut = more.rfind(b"\n") + 1
+            if cut == 0:  # no line break in this read: keep collecting
+                rest += more
+                continue
+            yield (rest + more[:cut]).decode("utf-8")
+            rest = more[cut:]
+
+
 def _open(path: Path):
     if path.suffix == ".gz":
         return gzip.open(path, "rb")

@@ -15,7 +15,7 @@ class ParsedNode:
     """
 
     label: str
-    children: list["ParsedNode"] = field(default_factory=list)
+    children: list[ParsedNode] = field(default_factory=list)
     word: str | None = None
     line: int = 0
     column: int = 0
