@@ -299,7 +299,7 @@ def echo_results(treebank: Treebank, results, options: OutputOptions, result_var
 
 def export_trees(treebank: Treebank, results, out_dir: str | None) -> None:
     if out_dir is None:
-        treebank.export_subtreebank(results, click.get_text_stream("stdout"))
+        treebank.export_subtreebank(results, sys.stdout)
         return
     exported = treebank.export_subtreebank(results, out_dir)
     files = len({tree.file for tree in exported})

@@ -173,8 +173,8 @@ def test_gum_text_equals_conllu_forms(gum, gum_dir):
     # Independent check of un-escaping and of tree.text: after un-escaping, every GUM
     # word equals the FORM column of dep/NAME.conllu (/work/shared/corpora/README.md).
     for document_id, path in _documents(gum):
-        conllu_path = gum_dir / "dep" / (Path(path).stem + ".conllu")
-        sentences = conllu.parse(conllu_path.read_text(encoding="utf-8"))
+        dependency_file = gum_dir / "dep" / (Path(path).stem + ".conllu")
+        sentences = conllu.parse(dependency_file.read_text(encoding="utf-8"))
         texts = [text for (text,) in gum.execute(
             "SELECT text FROM tree WHERE document = ? ORDER BY ordinal", (document_id,))]
         expected = [" ".join(token["form"] for token in sentence if isinstance(token["id"], int))

@@ -111,8 +111,8 @@ def test_wsj_phrase_categories_are_treebank2_categories(wsj):
 def test_gum_words_equal_conllu_forms(gum, gum_dir):
     mismatches = []
     for name, items in gum.items():
-        conllu_path = gum_dir / "dep" / name.replace(".ptb", ".conllu")
-        with open(conllu_path, encoding="utf-8") as handle:
+        dependency_file = gum_dir / "dep" / name.replace(".ptb", ".conllu")
+        with open(dependency_file, encoding="utf-8") as handle:
             sentences = list(conllu.parse_incr(handle))
         assert len(sentences) == len(items), name
         for number, (tree, sentence) in enumerate(zip(items, sentences, strict=True), 1):

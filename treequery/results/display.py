@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import os
+import sys
 from dataclasses import dataclass
 
 import click
@@ -41,7 +42,7 @@ def use_color(choice: str, stream=None) -> bool:
         return True
     if choice == "never" or os.environ.get("NO_COLOR"):
         return False
-    stream = stream if stream is not None else click.get_text_stream("stdout")
+    stream = stream if stream is not None else sys.stdout
     return bool(getattr(stream, "isatty", lambda: False)())
 
 
