@@ -42,8 +42,9 @@ def variations_to_text(variations: list[Variation]) -> str:
         return "no variation found"
     blocks = [_variation_text(number, variation)
               for number, variation in enumerate(variations, start=1)]
-    kind = "variation nuclei" if variations[0].kind == "nucleus" else "tag variations"
-    blocks.append(f"{len(variations)} {kind}")
+    one, many = (("variation nucleus", "variation nuclei") if variations[0].kind == "nucleus"
+                 else ("tag variation", "tag variations"))
+    blocks.append(f"{len(variations)} {one if len(variations) == 1 else many}")
     return "\n\n".join(blocks)
 
 
