@@ -40,6 +40,10 @@ if TYPE_CHECKING:
     from treequery.pattern.plan import Plan
 
 REGEX_TIMEOUT = 0.5  # seconds one regular-expression search may take
+# A regular expression on words is tested on each candidate node's word (answers
+# remembered per search) when the planner expects fewer than this many candidates
+# per distinct word of the index, else once on every word of the word table.
+REGEX_ROWS_PER_WORD = 4
 EMPTY_CATEGORY = "-NONE-"  # Penn Treebank empty elements (Bies et al. 1995, section 4)
 
 # Attributes stored on the label row, by attribute name -> label column.
@@ -104,9 +108,31 @@ def compile_regex(pattern: str) -> regex.Pattern:
     return regex.compile(pattern)
 
 
+# Answers already computed in the current search, by (pattern, text): a pattern tested
+# on each candidate's word meets the same words again and again, and a search with a
+# time limit costs microseconds per call. Cleared when a search starts (new_search).
+REGEX_MEMO_LIMIT = 100_000
+
+
+def new_search() -> None:
+    """Forget the regular-expression answers of the previous search (in this thread)."""
+    _regex_state.memo = {}
+
+
 def _tq_regexp(pattern: str | None, text: str | None) -> int | None:
     if pattern is None or text is None:
         return None  # a missing value: the comparison is false (two-valued logic)
+    memo = getattr(_regex_state, "memo", None)
+    if memo is None or len(memo) > REGEX_MEMO_LIMIT:
+        memo = _regex_state.memo = {}
+    key = (pattern, text)
+    if key in memo:
+        return memo[key]
+    memo[key] = _search(pattern, text)
+    return memo[key]
+
+
+def _search(pattern: str, text: str) -> int:
     try:
         return 1 if compile_regex(pattern).search(str(text), timeout=REGEX_TIMEOUT) else 0
     except TimeoutError:
@@ -186,13 +212,22 @@ class _Generator:
             return f"NOT {self.label_predicate(test.inner)}"
         raise TypeError(f"unknown label test {test!r}")
 
-    def node_test(self, alias: str, test: NodeTest, label_key: bool = True) -> list[str]:
-        """Conditions of a node test; without `label_key` the label is a filter only."""
+    def node_test(self, alias: str, test: NodeTest, label_key: bool = True,
+                  codes: tuple[int, ...] | None = None) -> list[str]:
+        """Conditions of a node test; without `label_key` the label is a filter only.
+
+        `codes` are the label codes the planner found for the test: listed as
+        parameters, they let SQLite count the index seeks instead of guessing.
+        """
         conds = []
         if not isinstance(test.label, AnyLabel):
-            pred = self.label_predicate(test.label)
             column = f"{alias}.label" if label_key else f"+{alias}.label"
-            conds.append(f"{column} IN (SELECT code FROM label WHERE {pred})")
+            if codes:  # (a test naming no label stays a subquery: it costs next to nothing)
+                listed = ", ".join(self.param(code) for code in codes)
+                conds.append(f"{column} IN ({listed})")
+            else:
+                pred = self.label_predicate(test.label)
+                conds.append(f"{column} IN (SELECT code FROM label WHERE {pred})")
         if test.word is not None:
             form = self.param(test.word)
             conds.append(f"{alias}.word IN (SELECT code FROM word WHERE form = {form})")
@@ -245,7 +280,10 @@ class _Generator:
             first, last = (("leaf_first", "leaf_last") if self.plan.count_empty
                            else ("tok_first", "tok_last"))
             gap = "<" if kind == "precedes" else "+ 1 ="
-            return f"({_same_tree(a, b)} AND +{a}.{last} {gap} +{b}.{first})"
+            # Redundant with the token test but it bounds the id range: the nodes after
+            # a's subtree in pre-order are exactly the nodes to its right.
+            return (f"({_same_tree(a, b)} AND {b}.id > {a}.last"
+                    f" AND +{a}.{last} {gap} +{b}.{first})")
         if kind == "sister-of":
             return f"({a}.parent = {b}.parent AND {a}.id <> {b}.id)"
         if kind == "left-sister-of":
@@ -380,17 +418,36 @@ class _Generator:
             literal = _coerce(cmp.right.value, kind)
             a = self.of(cmp.left.var)
             name = cmp.left.name
+            regex_per_row = cmp.op in ("~", "!~") and self.few_rows(cmp.left.var)
             # Label and word attributes are tested on the small label/word tables
             # once, and the node is matched by code: the node_label index applies.
             if name in LABEL_COLUMNS:
                 test = _operator(LABEL_COLUMNS[name], cmp.op, self.param(literal))
                 return f"{a}.label IN (SELECT code FROM label WHERE {test})"
+            if name == "word" and regex_per_row:
+                # A regular expression costs a Python call per value: on each candidate's
+                # word when candidates are few (see few_rows), else once per word.
+                word = f"(SELECT form FROM word WHERE code = {a}.word)"
+                return _operator(word, cmp.op, self.param(literal))
+            if name in ("headword", "headtag") and not regex_per_row:
+                # the head's code against the codes that pass, as for `word` above
+                table, column = ("word", "form") if name == "headword" else ("label", "category")
+                head = f"{a}.id + {self.syntax(a, 'head')}"
+                test = _operator(column, cmp.op, self.param(literal))
+                return (f"(SELECT h.{table} FROM node AS h WHERE h.id = {head}) "
+                        f"IN (SELECT code FROM {table} WHERE {test})")
             if name == "word":
                 test = _operator("form", cmp.op, self.param(literal))
                 return f"{a}.word IN (SELECT code FROM word WHERE {test})"
             return _operator(self.value(cmp.left), cmp.op, self.param(literal))
         self.attr_type(cmp.right)
         return _operator(self.value(cmp.left), cmp.op, self.value(cmp.right))
+
+    def few_rows(self, name: str) -> bool:
+        """Whether a top-level variable's expected rows are few against the index's words
+        (then a regular expression is tested on each row's value, else on the word table)."""
+        rows = self.plan.rows_at(name)
+        return rows is not None and rows < REGEX_ROWS_PER_WORD * self.plan.total_words
 
     def exists(self, ex: Exists) -> str:
         aliases = [self.new_alias(v.name) for v in ex.vars]
@@ -400,7 +457,8 @@ class _Generator:
         for var, alias in zip(ex.vars, aliases, strict=True):
             # same rule as the planner's: a few seeks in a tree range, one under a probe
             limit = 4 if var.name in loose else 1
-            where += self.node_test(alias, var.test, self.plan.codes(var.name) <= limit)
+            where += self.node_test(alias, var.test, self.plan.codes(var.name) <= limit,
+                                    self.plan.code_list(var.name))
             if var.name in loose:
                 where += self.same_tree(alias)
         where += [self.condition(c) for c in conjuncts(ex.condition)]
@@ -492,9 +550,10 @@ def _body(plan: Plan) -> tuple[_Generator, str, str]:
     where: list[str] = []
     for step in plan.steps:
         alias = gen.alias[step.var]
-        where += gen.node_test(alias, variables[step.var].test, step.label_key)
-        if step.needs_tree_range:
-            where += gen.same_tree(alias)
+        where += gen.node_test(alias, variables[step.var].test, step.label_key,
+                               plan.code_list(step.var))
+        if step.needs_tree_range or step.access == "up":
+            where += _access_range(gen, step)
         elif alias != gen.root:
             where.append(_same_tree(alias, gen.root))
     where += [gen.condition(c) for c in conjuncts(plan.pattern.condition)]
@@ -502,9 +561,34 @@ def _body(plan: Plan) -> tuple[_Generator, str, str]:
         where.insert(0, f"t.id = {gen.root}.tree")
     joiner = " CROSS JOIN " if plan.pin_order else ", "
     tables = [f"node AS {gen.alias[name]}" for name in plan.order]
+    if plan.drive_by_label:
+        tables[0] += " INDEXED BY node_label"
     if gen.uses_tree:
         tables.insert(1, "tree AS t")
     return gen, joiner.join(tables), " AND ".join(where) or "1"
+
+
+def _access_range(gen: _Generator, step) -> list[str]:
+    """The id condition through which a step's node is reached (plan.ACCESS_TEXT)."""
+    alias = gen.alias[step.var]
+    if step.access == "tree" or step.via is None:
+        return gen.same_tree(alias)
+    via = gen.alias[step.via]
+    if step.access == "up":
+        # the ancestor `levels` levels up, one primary-key lookup per level
+        chain, up = [], f"{via}.parent"
+        for level in range(1, step.levels[1] + 1):
+            if level >= step.levels[0]:
+                chain.append(up)
+            up = f"(SELECT parent FROM node WHERE id = {up})"
+        return [f"{alias}.id IN ({', '.join(chain)})"]
+    gen.uses_tree = True
+    if step.access == "after":
+        return [f"{alias}.id BETWEEN {via}.last + 1 AND t.last_node"]
+    if step.access == "spanning":
+        return [f"{alias}.id BETWEEN t.first_node AND {via}.last"]
+    # ancestors and nodes to the left: the tree's ids before the placed node
+    return [f"{alias}.id BETWEEN t.first_node AND {via}.id - 1"]
 
 
 def _needs_distinct(plan: Plan) -> bool:
@@ -589,6 +673,7 @@ NODE_WORDS_SQL = (
     "SELECT w.form FROM node AS n JOIN word AS w ON w.code = n.word "
     "WHERE n.id BETWEEN ? AND ? AND n.tok_first IS NOT NULL ORDER BY n.id"
 )
+LABEL_TEXT_SQL = "SELECT text FROM label WHERE code = ?"
 TREE_LOCATION_SQL = (
     "SELECT t.id, d.name, d.path, t.line, t.ordinal FROM tree AS t "
     "JOIN document AS d ON d.id = t.document WHERE t.id = ?"

@@ -10,11 +10,13 @@ from treequery.errors import SearchTimeout
 from treequery.pattern.ast import ATTRIBUTES
 from treequery.pattern.plan import Plan
 from treequery.pattern.sql import (
+    LABEL_TEXT_SQL,
     NODE_DETAILS_SQL,
     NODE_WORDS_SQL,
     TREE_LOCATION_SQL,
     count_sql,
     explain_query_plan,
+    new_search,
     page_sql,
     parse_by,
     register_functions,
@@ -48,6 +50,7 @@ class _SearchClock:
 
     def __enter__(self) -> _SearchClock:
         register_functions(self.conn)
+        new_search()
         if self.timeout is not None:
             self.conn.set_progress_handler(self._expired, PROGRESS_EVERY)
         return self
@@ -155,9 +158,27 @@ def explain_text(conn: sqlite3.Connection, plan: Plan) -> str:
     aliases = ", ".join(f"{alias} = {name}" for name, alias in sql_aliases(plan).items())
     lines = [plan.describe(), "", "SQL:", f"  {sql}", f"aliases: {aliases}", "parameters:"]
     lines += [f"  ?{i} = {value!r}" for i, value in enumerate(params, 1)] or ["  (none)"]
+    lines += _label_code_lines(conn, plan)
     lines += ["", "SQLite query plan:"]
     depth: dict[int, int] = {0: 0}
     for node_id, parent, detail in explain_query_plan(conn, sql, params):
         depth[node_id] = depth.get(parent, 0) + 1
         lines.append("  " * depth[node_id] + detail)
     return "\n".join(lines)
+
+
+CODES_SHOWN = 12  # label codes listed per variable in `explain`
+
+
+def _label_code_lines(conn: sqlite3.Connection, plan: Plan) -> list[str]:
+    """Which labels the label codes passed as parameters stand for."""
+    lines = []
+    for name, codes in plan.code_lists:
+        if not codes:
+            continue
+        shown = [f"{code} = {conn.execute(LABEL_TEXT_SQL, (code,)).fetchone()[0]!r}"
+                 for code in codes[:CODES_SHOWN]]
+        more = f", ... ({len(codes)} codes)" if len(codes) > CODES_SHOWN else ""
+        lines.append(f"  {name}: {', '.join(shown)}{more}")
+    return ["label codes (the labels a node test names, from the label table):"] + lines \
+        if lines else []
