@@ -94,4 +94,4 @@ def test_tables_have_stable_columns_per_variable(demo_db, monkeypatch, fmt, deli
 def test_empty_result_still_prints_the_header(demo_db):
     output = cli("find", "--db", str(demo_db), 'x:NP "no-such-word-here"', "--format", "csv")
     assert output.splitlines() == ["tree,document,file,line,ordinal,x.label,x.category,"
-                                   "x.functions,x.start,x.end,x.words"]
+                                   "x.functions,x.start,x.end,x.words,x.headword,x.headtag"]

@@ -669,6 +669,11 @@ NODE_DETAILS_SQL = (
     "SELECT n.id, n.last, n.tree, l.text, l.category, l.functions, n.tok_first, n.tok_last "
     "FROM node AS n JOIN label AS l ON l.code = n.label WHERE n.id = ?"
 )
+# The lexical head of a node: node_syntax.head is the offset from the node's id.
+NODE_HEAD_SQL = (
+    "SELECT w.form, l.category FROM node_syntax AS s JOIN node AS h ON h.id = s.id + s.head "
+    "JOIN word AS w ON w.code = h.word JOIN label AS l ON l.code = h.label WHERE s.id = ?"
+)
 NODE_WORDS_SQL = (
     "SELECT w.form FROM node AS n JOIN word AS w ON w.code = n.word "
     "WHERE n.id BETWEEN ? AND ? AND n.tok_first IS NOT NULL ORDER BY n.id"

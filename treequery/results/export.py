@@ -11,7 +11,7 @@ from treequery.results.display import shown_name, shown_path
 from treequery.results.model import Result
 
 TREE_COLUMNS = ("tree", "document", "file", "line", "ordinal")
-NODE_COLUMNS = ("label", "category", "functions", "start", "end", "words")
+NODE_COLUMNS = ("label", "category", "functions", "start", "end", "words", "headword", "headtag")
 MANIFEST = "trees.tsv"
 MANIFEST_COLUMNS = ("file", "line", "tree", "source", "source_line")
 
@@ -32,6 +32,8 @@ def result_json(result: Result) -> dict:
                 "functions": node.functions,
                 "span": [node.tok_first, node.tok_last],
                 "words": node.words,
+                "headword": node.head_word,
+                "headtag": node.head_tag,
             }
             for var, node in result.bindings.items()
         },
@@ -52,7 +54,8 @@ def table_row(result: Result, result_vars: Sequence[str]) -> list:
         node = result.bindings[var]
         row += [node.label, node.category, node.functions,
                 "" if node.tok_first is None else node.tok_first,
-                "" if node.tok_last is None else node.tok_last, node.words]
+                "" if node.tok_last is None else node.tok_last, node.words,
+                node.head_word or "", node.head_tag or ""]
     return row
 
 

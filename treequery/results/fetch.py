@@ -12,6 +12,7 @@ from treequery.pattern.plan import Plan
 from treequery.pattern.sql import (
     LABEL_TEXT_SQL,
     NODE_DETAILS_SQL,
+    NODE_HEAD_SQL,
     NODE_WORDS_SQL,
     TREE_LOCATION_SQL,
     count_sql,
@@ -110,7 +111,8 @@ def bound_node(conn: sqlite3.Connection, node_id: int) -> BoundNode:
     node, last, _, label, category, functions, tok_first, tok_last = conn.execute(
         NODE_DETAILS_SQL, (node_id,)).fetchone()
     words = " ".join(form for (form,) in conn.execute(NODE_WORDS_SQL, (node, last)))
-    return BoundNode(node, label, category, functions, tok_first, tok_last, words)
+    head = conn.execute(NODE_HEAD_SQL, (node,)).fetchone() or (None, None)
+    return BoundNode(node, label, category, functions, tok_first, tok_last, words, *head)
 
 
 # ---------------------------------------------------------------- counting

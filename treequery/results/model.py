@@ -16,6 +16,8 @@ class BoundNode:
     tok_first: int | None   # 1-based overt-token span in the tree, None when no overt word
     tok_last: int | None
     words: str              # the overt words covered, un-escaped, space-separated
+    head_word: str | None = None  # lexical head (Collins 1999 rules), un-escaped
+    head_tag: str | None = None   # its part-of-speech tag
 
 
 @dataclass(frozen=True, slots=True)
