@@ -4,14 +4,13 @@ from __future__ import annotations
 import csv
 import functools
 import json
-import sqlite3
 import sys
 from pathlib import Path
 
 import click
 
 from .api import Treebank
-from .errors import PatternError, SearchTimeout, TreequeryError
+from .cli_errors import EXIT_FAILURE, TreequeryGroup
 from .results.brackets import marked_brackets
 from .results.display import Painter, location, shown_path, tree_location, use_color
 from .results.kwic import DEFAULT_WIDTH
@@ -21,38 +20,7 @@ from .results.svg import file_name as svg_file_name
 from .results.svg import html_page, result_svg, tree_svg
 from .results.textart import draw_tree
 
-EXIT_FAILURE = 1
-EXIT_BAD_PATTERN = 2
-EXIT_INTERRUPTED = 130  # 128 + SIGINT, what shells report for Ctrl-C
 DRAW_LIMIT = 20
-
-
-class TreequeryGroup(click.Group):
-    """Turns library errors into messages and exit codes, in one place."""
-
-    def invoke(self, ctx: click.Context):
-        try:
-            return super().invoke(ctx)
-        except PatternError as error:
-            click.echo(error.render(), err=True)
-            ctx.exit(EXIT_BAD_PATTERN)
-        except SearchTimeout as error:
-            click.echo(f"stopped: {error}", err=True)
-            ctx.exit(EXIT_FAILURE)
-        except (TreequeryError, FileNotFoundError) as error:
-            click.echo(f"error: {error}", err=True)
-            ctx.exit(EXIT_FAILURE)
-        except KeyboardInterrupt:
-            click.echo("interrupted", err=True)
-            ctx.exit(EXIT_INTERRUPTED)
-        except sqlite3.OperationalError as error:
-            if str(error) != "interrupted":  # Ctrl-C noticed inside a search step
-                raise
-            click.echo("interrupted", err=True)
-            ctx.exit(EXIT_INTERRUPTED)
-        except BrokenPipeError:  # `treequery find ... | head`
-            sys.stderr.close()
-            ctx.exit(0)
 
 
 db_option = click.option(

@@ -7,6 +7,7 @@ import sys
 import click
 
 from .api import Treebank
+from .cli_errors import TreequeryGroup
 from .checks.evaluate import run_rules
 from .checks.report import (
     outcomes_to_json,
@@ -17,28 +18,15 @@ from .checks.report import (
 from .checks.rules import RulesFileError, read_rules
 from .checks.tags import find_tag_variation
 from .checks.variation import find_variation_nuclei
-from .errors import PatternError, TreequeryError
+from .errors import PatternError
 
 EXIT_RULE_FAILED = 1
-EXIT_ERROR = 1
-EXIT_BAD_RULES = 2
 
 
-class CheckGroup(click.Group):
-    """Turns errors into messages and exit codes, also when the group runs on its own."""
+class CheckGroup(TreequeryGroup):
+    """Errors to exit codes, also when the group runs on its own; a bad rules file exits 2."""
 
-    def invoke(self, ctx: click.Context):
-        try:
-            return super().invoke(ctx)
-        except RulesFileError as error:
-            click.echo(f"error: {error}", err=True)
-            ctx.exit(EXIT_BAD_RULES)
-        except PatternError as error:
-            click.echo(error.render(), err=True)
-            ctx.exit(EXIT_BAD_RULES)
-        except TreequeryError as error:
-            click.echo(f"error: {error}", err=True)
-            ctx.exit(EXIT_ERROR)
+    bad_input_errors = (RulesFileError, PatternError)
 
 
 def _open(db: str | None) -> Treebank:
