@@ -301,3 +301,26 @@ class Pattern:
     @property
     def result_vars(self) -> tuple[str, ...]:
         return self.reported or (self.vars[0].name,)
+
+
+def walk_conditions(cond: Condition):
+    """Every condition inside `cond`, itself first, in pre-order (through And, Or, Not, Exists)."""
+    stack = [cond]
+    while stack:
+        current = stack.pop()
+        yield current
+        if isinstance(current, Exists):
+            stack.append(current.condition)
+        elif isinstance(current, Not):
+            stack.append(current.item)
+        elif isinstance(current, (And, Or)):
+            stack.extend(reversed(current.items))
+
+
+def all_node_vars(pattern: Pattern) -> list[NodeVar]:
+    """The top-level variables, then those bound inside not / or, in pattern order."""
+    found = list(pattern.vars)
+    for cond in walk_conditions(pattern.condition):
+        if isinstance(cond, Exists):
+            found.extend(cond.vars)
+    return found

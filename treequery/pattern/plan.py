@@ -15,6 +15,8 @@ import regex
 
 from treequery.errors import PatternCheckError, TreequeryError
 from treequery.pattern.ast import (
+    all_node_vars,
+    walk_conditions,
     AnyLabel,
     CategoryIs,
     CategoryRegex,
@@ -272,23 +274,6 @@ def _matching_codes(stats: _Stats, var: NodeVar) -> tuple[int, ...] | None:
     return tuple(code for code, hit in zip(stats.codes, hits, strict=True) if hit)
 
 
-def _all_vars(pattern: Pattern) -> list[NodeVar]:
-    found = list(pattern.vars)
-
-    def walk(cond: Condition) -> None:
-        if isinstance(cond, Exists):
-            found.extend(cond.vars)
-            walk(cond.condition)
-        elif isinstance(cond, Not):
-            walk(cond.item)
-        elif hasattr(cond, "items"):
-            for item in cond.items:
-                walk(item)
-
-    walk(pattern.condition)
-    return found
-
-
 def _estimate(conn: sqlite3.Connection, stats: _Stats, var: NodeVar) -> int:
     """How many nodes of the index pass the variable's own node test."""
     hits = _label_hits(stats, var.test.label)
@@ -324,22 +309,12 @@ def _check_regexes(pattern: Pattern) -> None:
         elif isinstance(test, LabelNot):
             label(test.inner, position)
 
-    def walk(cond: Condition) -> None:
-        if isinstance(cond, Compare) and cond.op in ("~", "!~") and isinstance(cond.right, Literal):
-            check(str(cond.right.value), cond.right.span.start)
-        elif isinstance(cond, Exists):
-            for var in cond.vars:
-                label(var.test.label, var.span.start)
-            walk(cond.condition)
-        elif isinstance(cond, Not):
-            walk(cond.item)
-        elif hasattr(cond, "items"):
-            for item in cond.items:
-                walk(item)
-
-    for var in pattern.vars:
+    for var in all_node_vars(pattern):
         label(var.test.label, var.span.start)
-    walk(pattern.condition)
+    for cond in walk_conditions(pattern.condition):
+        if (isinstance(cond, Compare) and cond.op in ("~", "!~")
+                and isinstance(cond.right, Literal)):
+            check(str(cond.right.value), cond.right.span.start)
 
 
 # ---------------------------------------------------------------- ordering
@@ -543,7 +518,7 @@ def make_plan(conn: sqlite3.Connection, pattern: Pattern, count_empty: bool = Fa
         reason = ("order given by the caller" if order is not None
                   else "the planner's order; SQLite's own choice can scan the whole node "
                        "table when its statistics mislead it")
-    lists = {v.name: _matching_codes(stats, v) for v in _all_vars(pattern)}
+    lists = {v.name: _matching_codes(stats, v) for v in all_node_vars(pattern)}
     codes = tuple((name, len(found or ())) for name, found in lists.items())
     code_lists = _within_budget(lists)
     lookup = dict(codes)
