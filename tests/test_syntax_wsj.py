@@ -100,7 +100,7 @@ def test_prepositional_phrases_by_the_head_word_of_their_object(wsj):
 
 
 def test_bytes_per_node_stay_within_budget(wsj_db):
-    """The whole index, node_syntax and link included, stays within 100 bytes a node."""
+    """The whole index, head columns and links included, stays within 100 bytes a node."""
     with tempfile.TemporaryDirectory() as folder:
         copy = Path(folder) / "copy.db"
         source = sqlite3.connect(wsj_db)

@@ -1,6 +1,8 @@
 """The Python API: one `Treebank` object over an index, the layer every interface uses."""
 from __future__ import annotations
 
+import os
+import sqlite3
 from collections.abc import Iterable, Iterator
 from dataclasses import replace
 from pathlib import Path
@@ -29,14 +31,28 @@ class Treebank:
         if readonly and not self.path.exists():
             raise TreequeryError(f"no index at {self.path}; build one with `treequery index`")
         self.conn = schema.connect(str(self.path), readonly=readonly)
+        schema.check_schema_version(self.conn, str(self.path))
         if not readonly:
             schema.create_schema(self.conn)
         from .pattern.sql import register_functions
 
         register_functions(self.conn)
+        self._partner: sqlite3.Connection | None = None
 
     def close(self) -> None:
+        if self._partner is not None:
+            self._partner.close()
         self.conn.close()
+
+    def partner_connection(self) -> sqlite3.Connection | None:
+        """A second, read-only connection to the index file, so a count can use both
+        cores (results/split.py); None for an index that is not a file."""
+        if self._partner is None and self.path.is_file() and (os.cpu_count() or 1) > 1:
+            from .pattern.sql import register_functions
+
+            self._partner = schema.connect(str(self.path), readonly=True)
+            register_functions(self._partner)
+        return self._partner
 
     def __enter__(self) -> Treebank:
         return self
@@ -173,7 +189,8 @@ class Treebank:
         compiled = self.compile(pattern)
         keys = [parse_group_key(text, compiled) for text in by]
         plan = self.plan(compiled, count_empty=count_empty)
-        counted = count_results(self.conn, plan, by=keys, timeout=timeout)
+        counted = count_results(self.conn, plan, by=keys, timeout=timeout,
+                                partner=self.partner_connection())
         # Report the keys as the user wrote them (`word`, not the internal `_1.word`).
         return replace(counted, by=tuple(by))
 

@@ -20,6 +20,7 @@ from treequery.errors import TreebankFormatError
 from treequery.index.builder import index_paths
 from treequery.index.rows import (
     NO_VALUE,
+    NODE_COLUMNS,
     RESTART,
     CodeTables,
     fast_rows,
@@ -71,7 +72,7 @@ def fast_file_rows(path: Path, first_node: int = 1, first_tree: int = 1):
             nodes, trees, restarts = [], [], restarts + 1
             continue
         flat, tree_rows = batch
-        nodes.extend(tuple(flat[k:k + 13]) for k in range(0, len(flat), 13))
+        nodes.extend(tuple(flat[k:k + NODE_COLUMNS]) for k in range(0, len(flat), NODE_COLUMNS))
         trees.extend(tree_rows)
     return nodes, trees, skipped, codes.take_pending(), restarts
 

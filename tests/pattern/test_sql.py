@@ -150,7 +150,9 @@ def build_db(brackets: list[str]) -> tuple[sqlite3.Connection, list[RefNode]]:
                          0 if is_preterminal(sub) else len(sub), labels[label], word_code,
                          node.leaves[0], node.leaves[-1],
                          toks[0] if toks else None, toks[-1] if toks else None))
-        conn.executemany("INSERT INTO node VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)", rows)
+        conn.executemany("INSERT INTO node(id, last, tree, parent, depth, position, n_children,"
+                         " label, word, leaf_first, leaf_last, tok_first, tok_last)"
+                         " VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)", rows)
         text_words = " ".join(ESCAPES.get(w, w) for w, t in leaves if t != "-NONE-")
         conn.execute("INSERT INTO tree VALUES (?,1,?,?,?,?,?,?,?)",
                      (tree_no + 1, tree_no + 1, tree_no * 3 + 1, first, next_id - 1,

@@ -17,9 +17,10 @@ from pathlib import Path
 from ..errors import TreebankFormatError
 from ..read.model import ParsedTree, SkippedTree
 from ..read.sources import document_metadata, expand_paths
-from .linguistics import annotate_index  # issue 4: heads, c-command, links
+from .linguistics import Annotator, annotate_index, prepare_head_rules, write_links
 from .pipeline import FileCounts, WorkerStream, file_messages
-from .rows import INSERT_FLAT_NODE, LABEL_OF, NO_VALUE, NODE_COLUMNS, WORD_OF, CodeTables, node_rows
+from .heads import HeadRules
+from .rows import INSERT_FLAT_NODE, NO_VALUE, NODE_COLUMNS, CodeTables, node_rows
 from .schema import NODE_INDEXES, create_schema
 
 NODE_INDEX_NAMES = tuple(re.findall(r"CREATE INDEX IF NOT EXISTS (\w+)", NODE_INDEXES))
@@ -33,8 +34,6 @@ BYTES_PER_NODE_GUESS = 12
 WORKER_MIN_BYTES = 4 << 20
 COMMIT_NODES = 1_000_000  # nodes per commit: files are savepoints inside it
 ANALYSIS_ROWS = 20_000  # rows ANALYZE samples per index
-INSERT_NODE = "INSERT INTO node VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?)"
-INSERT_TREE = "INSERT INTO tree VALUES (?,?,?,?,?,?,?,?,?)"
 # Tree rows of `file_rows` lack the document column; it is the same for the whole file.
 INSERT_FILE_TREE = "INSERT INTO tree VALUES (?,{document},?,?,?,?,?,?,?)"
 
@@ -65,46 +64,42 @@ class IndexReport:
 class _Loader:
     """Loads in-memory trees into an open transaction (index_trees: tests, the API)."""
 
-    def __init__(self, conn: sqlite3.Connection):
+    def __init__(self, conn: sqlite3.Connection, rules: HeadRules):
         self.conn = conn
         self.codes = CodeTables(conn)
+        self.annotate = Annotator(self.codes, rules)
         self.next_node = (conn.execute("SELECT max(id) FROM node").fetchone()[0] or 0) + 1
         self.next_tree = (conn.execute("SELECT max(id) FROM tree").fetchone()[0] or 0) + 1
 
     def load(self, items: Iterable[ParsedTree | SkippedTree], document_id: int
              ) -> tuple[int, int, list[SkippedTree]]:
         """Insert every tree of `items` under `document_id`; returns trees, nodes, skipped."""
-        node_batch: list = []
+        flat: list[int] = []
         tree_batch: list = []
         skipped: list[SkippedTree] = []
         first_node = self.next_node
         forms = self.codes.forms
-        label_counts: Counter = Counter()
-        word_counts: Counter = Counter()
-        n_trees = 0
         for item in items:
             if isinstance(item, SkippedTree):
                 skipped.append(item)
                 continue
             rows, tokens = node_rows(item.root, self.next_tree, self.next_node, self.codes)
-            n_leaves = rows[0][10]  # the root's leaf_last
-            text = " ".join(map(forms.__getitem__, tokens))
-            tree_batch.append((self.next_tree, document_id, item.ordinal, item.line,
-                               self.next_node, self.next_node + len(rows) - 1, len(tokens),
-                               n_leaves, text))
-            node_batch.extend(rows)
-            label_counts.update(map(LABEL_OF, rows))
-            word_counts.update(map(WORD_OF, rows))
+            flat.extend(NO_VALUE if value is None else value for row in rows for value in row)
+            tree_batch.append((self.next_tree, item.ordinal, item.line, self.next_node,
+                               self.next_node + len(rows) - 1, len(tokens), rows[0][10],
+                               " ".join(map(forms.__getitem__, tokens))))
             self.next_node += len(rows)
             self.next_tree += 1
-            n_trees += 1
-        self.conn.executemany(INSERT_NODE, node_batch)
-        self.conn.executemany(INSERT_TREE, tree_batch)
+        links = self.annotate(flat, tree_batch)
+        write_batch(self.conn, document_id, flat, tree_batch)
+        write_links(self.conn, links)
         self.codes.flush(self.conn)
-        word_counts.pop(None, None)
-        _add_counts(self.conn, "label", label_counts.items())
-        _add_counts(self.conn, "word", word_counts.items())
-        return n_trees, self.next_node - first_node, skipped
+        counts = FileCounts()
+        counts.add(flat, len(tree_batch))
+        counts.words.pop(NO_VALUE, None)
+        _add_counts(self.conn, "label", counts.labels.items())
+        _add_counts(self.conn, "word", counts.words.items())
+        return len(tree_batch), self.next_node - first_node, skipped
 
 
 def write_batch(conn: sqlite3.Connection, document_id: int, flat, trees: list[tuple]) -> None:
@@ -184,8 +179,9 @@ class _Run:
     pages less often), and whatever stops the run commits the files finished before it.
     """
 
-    def __init__(self, conn, files, corpus_id, meta, strict, progress):
+    def __init__(self, conn, files, corpus_id, meta, strict, progress, rules):
         self.conn = conn
+        self.rules = rules
         self.files = files
         self.corpus_id = corpus_id
         self.meta = dict(meta or {})
@@ -213,8 +209,10 @@ class _Run:
         existing = dict(self.conn.execute(
             "SELECT path, sha256 FROM document WHERE corpus = ?", (self.corpus_id,)))
         if use_worker:
-            return WorkerStream(self.files, existing, codes, first_node, first_tree, self.strict)
-        return file_messages(self.files, existing, codes, first_node, first_tree, self.strict)
+            return WorkerStream(self.files, existing, codes, first_node, first_tree, self.strict,
+                                self.rules)
+        return file_messages(self.files, existing, codes, first_node, first_tree, self.strict,
+                             self.rules)
 
     def run(self, use_worker: bool) -> None:
         stream = self.messages(use_worker)
@@ -272,8 +270,9 @@ class _Run:
         self.document_id = self._document_row(path, resolved, sha256, existing)
         self.conn.execute("SAVEPOINT file_rows")
 
-    def _on_rows(self, number: int, flat, trees: list[tuple]) -> None:
+    def _on_rows(self, number: int, flat, trees: list[tuple], links: list[tuple]) -> None:
         write_batch(self.conn, self.document_id, flat, trees)
+        write_links(self.conn, links)
         self._tick(len(flat) // NODE_COLUMNS, len(trees))
 
     def _on_restart(self, number: int) -> None:
@@ -457,9 +456,10 @@ def index_paths(conn: sqlite3.Connection, paths: Iterable[str | Path] | str | Pa
     isolation, conn.isolation_level = conn.isolation_level, None  # we BEGIN/COMMIT ourselves
     old_pragmas = _bulk_pragmas(conn)
     try:
-        run = _Run(conn, files, _corpus_id(conn, corpus), meta, strict, progress)
+        rules = prepare_head_rules(conn, head_rules)
+        run = _Run(conn, files, _corpus_id(conn, corpus), meta, strict, progress, rules)
         run.run(_use_worker(files, processes))
-        annotate_index(conn, head_rules)  # issue 4 hook: heads, c-command scopes, links
+        annotate_index(conn)  # older trees, when the head rules changed
     finally:
         _restore_pragmas(conn, old_pragmas)
         conn.isolation_level = isolation
@@ -478,13 +478,14 @@ def index_trees(conn: sqlite3.Connection, items: Iterable[ParsedTree | SkippedTr
     digest = hashlib.sha256(repr([(t.line, t.ordinal) for t in items]).encode()).hexdigest()
     isolation, conn.isolation_level = conn.isolation_level, None
     try:
+        rules = prepare_head_rules(conn)
         conn.execute("BEGIN")
         corpus_id = _corpus_id(conn, corpus)
         document_id = conn.execute(
             "INSERT INTO document(corpus, path, name, size, sha256, indexed_at)"
             " VALUES (?,?,?,0,?,?)", (corpus_id, source, Path(source).name, digest, _now()),
         ).lastrowid
-        trees, nodes, skipped = _Loader(conn).load(items, document_id)
+        trees, nodes, skipped = _Loader(conn, rules).load(items, document_id)
         conn.execute("UPDATE document SET n_trees = ?, n_skipped = ? WHERE id = ?",
                      (trees, len(skipped), document_id))
         conn.execute("COMMIT")

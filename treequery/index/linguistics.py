@@ -1,7 +1,9 @@
 """Index-time syntax: lexical heads, c-command scopes and coindexation links per tree.
 
-Runs after the node rows are loaded (a pass over the node table, so it does not care
-how the rows were produced) and fills `node_syntax` and `link` (schema.py):
+Computed where the node rows are built (pipeline.py: in the worker process of a large
+build), before they are written: the columns `head`, `branch_up` and `branch_reach` of
+each node row, and the rows of `link` (schema.py). A pass over the node table
+(`annotate_index`) does the same for trees that lack it, after the head rules change.
 
 - head: the lexical head of every node by head rules (heads.py; default Collins 1999,
   Appendix A). The head child of a phrase is the child whose lexical head is the
@@ -26,19 +28,24 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from .heads import HeadRules, head_child, load_head_rules, parse_head_rules
+from .rows import NO_VALUE, NODE_COLUMNS, CodeTables
+
+HEAD_COLUMN = 13  # place of `head` in a node row; branch_up and branch_reach follow
 
 RULES_KEY = "head_rules"
 EMPTY_CATEGORY = "-NONE-"  # Bies et al. 1995: empty elements are preterminals tagged -NONE-
 TREES_PER_BATCH = 2000
 
-NODE_COLUMNS_SQL = ("SELECT id, last, parent, n_children, label, word, tok_first FROM node "
-                    "WHERE id BETWEEN ? AND ? ORDER BY id")
-INSERT_SYNTAX = "INSERT OR REPLACE INTO node_syntax VALUES (?,?,?,?)"
+# NULLs as NO_VALUE, as in the flat rows of the row builder (rows.py)
+NODE_COLUMNS_SQL = ("SELECT id, last, ifnull(parent, -1), n_children, label, ifnull(word, -1),"
+                    " ifnull(tok_first, -1) FROM node WHERE id BETWEEN ? AND ? ORDER BY id")
+UPDATE_SYNTAX = ("UPDATE node SET head = ?, branch_up = nullif(?,-1), branch_reach = nullif(?,-1)"
+                 " WHERE id = ?")
 INSERT_LINK = "INSERT OR IGNORE INTO link VALUES (?,?,?)"
 
 
 @dataclass(frozen=True, slots=True)
-class _Codes:
+class SyntaxCodes:
     """What the pass needs from the label and word tables."""
 
     category: dict[int, str]
@@ -46,8 +53,13 @@ class _Codes:
     gapindex: dict[int, int]
     ref_index: dict[int, int]        # word code -> reference index (empty words with one)
 
+    @classmethod
+    def of_tables(cls, tables: CodeTables) -> SyntaxCodes:
+        """A live view of code tables that are still growing (the row builder's)."""
+        return cls(tables.categories, tables.coindexes, tables.gapindexes, tables.ref_indexes)
 
-def _codes(conn: sqlite3.Connection) -> _Codes:
+
+def _codes(conn: sqlite3.Connection) -> SyntaxCodes:
     category, coindex, gapindex = {}, {}, {}
     for code, cat, co, gap in conn.execute(
             "SELECT code, category, coindex, gapindex FROM label"):
@@ -58,7 +70,7 @@ def _codes(conn: sqlite3.Connection) -> _Codes:
             gapindex[code] = gap
     ref_index = dict(conn.execute(
         "SELECT code, ref_index FROM word WHERE ref_index IS NOT NULL"))
-    return _Codes(category, coindex, gapindex, ref_index)
+    return SyntaxCodes(category, coindex, gapindex, ref_index)
 
 
 # ---------------------------------------------------------------- one tree
@@ -78,61 +90,101 @@ class _HeadCache:
         return found
 
 
-def tree_syntax(rows: list[tuple], codes: _Codes, heads: _HeadCache
-                ) -> tuple[list[tuple], list[tuple]]:
-    """node_syntax rows and link rows of one tree, from its node rows in pre-order.
+def tree_syntax(root: int, lasts, parents, n_children, labels, words, tok_firsts,
+                codes: SyntaxCodes, heads: _HeadCache
+                ) -> tuple[list[int], list[int], list[int], list[tuple]]:
+    """The head, branch_up and branch_reach columns (NO_VALUE for NULL) and the link rows
+    of one tree.
 
-    `rows` are (id, last, parent, n_children, label, word, tok_first).
+    The arguments are the tree's node columns in pre-order (NO_VALUE for NULL), the
+    root's id first: ids are root, root + 1, ... so places in the lists are id - root.
     """
-    ids, lasts, parents, n_children, labels, _words, tok_firsts = zip(*rows, strict=True)
-    root = ids[0]
-    size = len(rows)
-    cats = [codes.category[label] for label in labels]
-    silent = [tok is None for tok in tok_firsts]
-    kids: list[list[int]] = [[] for _ in range(size)]
-    for i in range(1, size):
-        kids[parents[i] - root].append(i)
+    size = len(labels)
+    category = codes.category
+    cats = [category[label] for label in labels]
+    silent = [tok < 0 for tok in tok_firsts]
     head = list(range(size))
     choose = heads.choose
     for i in range(size - 1, -1, -1):  # children before their parents
-        children = kids[i]
-        if children:
-            chosen = choose(cats[i], tuple([cats[c] for c in children]),
-                            tuple([silent[c] for c in children]))
-            head[i] = head[children[chosen]]
-    branch: list[int | None] = [None] * size
-    out = [(root, head[0], None, None)]
+        count = n_children[i]
+        if not count:
+            continue
+        children = [i + 1]  # pre-order: the next sister starts after a child's last node
+        for _ in range(count - 1):
+            children.append(lasts[children[-1]] - root + 1)
+        chosen = choose(cats[i], tuple([cats[c] for c in children]),
+                        tuple([silent[c] for c in children]))
+        head[i] = head[children[chosen]]
+    ups = [NO_VALUE] * size  # place of the first branching ancestor
+    reaches = [NO_VALUE] * size
     for i in range(1, size):
         parent = parents[i] - root
-        up = branch[i] = parent if n_children[parent] >= 2 else branch[parent]
-        if up is None:
-            out.append((ids[i], head[i] - i, None, None))
-        else:
-            out.append((ids[i], head[i] - i, i - up, lasts[up] - ids[i]))
-    return out, _links(rows, codes)
+        up = ups[i] = parent if n_children[parent] >= 2 else ups[parent]
+        if up != NO_VALUE:
+            reaches[i] = lasts[up] - root - i
+    offsets = [h - i for i, h in enumerate(head)]
+    branch_up = [NO_VALUE if up == NO_VALUE else i - up for i, up in enumerate(ups)]
+    return offsets, branch_up, reaches, _links(root, labels, words, codes)
 
 
-def _links(rows: list[tuple], codes: _Codes) -> list[tuple]:
+def _links(root: int, labels, words, codes: SyntaxCodes) -> list[tuple]:
     by_index: dict[int, list[int]] = {}
     traces: list[tuple[int, int]] = []
     gapped: list[tuple[int, int]] = []
-    for node_id, _last, _parent, _n, label, word, _tok in rows:
-        index = codes.coindex.get(label)
-        if index is not None:
-            by_index.setdefault(index, []).append(node_id)
-        gap = codes.gapindex.get(label)
-        if gap is not None:
-            gapped.append((gap, node_id))
-        if word is not None and codes.category[label] == EMPTY_CATEGORY:
-            ref = codes.ref_index.get(word)
-            if ref is not None:
-                traces.append((ref, node_id))
+    coindex, gapindex, ref_index = codes.coindex, codes.gapindex, codes.ref_index
+    for i, label in enumerate(labels):
+        if label in coindex:
+            by_index.setdefault(coindex[label], []).append(root + i)
+        if label in gapindex:
+            gapped.append((gapindex[label], root + i))
+    for i, word in enumerate(words):
+        if word in ref_index and codes.category[labels[i]] == EMPTY_CATEGORY:
+            traces.append((ref_index[word], root + i))
     links = []
     for kind, targets in (("coindex", traces), ("gap", gapped)):
         for index, target in targets:
             links.extend((antecedent, target, kind) for antecedent in by_index.get(index, ())
                          if antecedent != target)
     return links
+
+
+def annotate_rows(flat, trees: list[tuple], codes: SyntaxCodes, heads: _HeadCache
+                  ) -> list[tuple]:
+    """Fill the head, branch_up and branch_reach columns of flat node rows (rows.py) in
+    place; returns the batch's link rows.
+
+    `trees` are the batch's tree rows: (id, ordinal, line, first node, last node, ...).
+    """
+    base = flat[0]
+    links: list[tuple] = []
+    width = NODE_COLUMNS
+    for tree in trees:
+        root = tree[3]
+        start, end = (root - base) * width, (tree[4] - base + 1) * width
+        offsets, branch_up, reaches, tree_links = tree_syntax(
+            root, flat[start + 1:end:width], flat[start + 3:end:width],
+            flat[start + 6:end:width], flat[start + 7:end:width], flat[start + 8:end:width],
+            flat[start + 11:end:width], codes, heads)
+        flat[start + HEAD_COLUMN:end:width] = offsets
+        flat[start + HEAD_COLUMN + 1:end:width] = branch_up
+        flat[start + HEAD_COLUMN + 2:end:width] = reaches
+        links.extend(tree_links)
+    return links
+
+
+class Annotator:
+    """Index-time syntax for batches of new rows, made where the rows are made."""
+
+    def __init__(self, tables: CodeTables, rules: HeadRules):
+        self.codes = SyntaxCodes.of_tables(tables)
+        self.heads = _HeadCache(rules)
+
+    def __call__(self, flat, trees: list[tuple]) -> list[tuple]:
+        return annotate_rows(flat, trees, self.codes, self.heads) if trees else []
+
+
+def write_links(conn: sqlite3.Connection, links: list[tuple]) -> None:
+    conn.executemany(INSERT_LINK, links)
 
 
 # ---------------------------------------------------------------- the whole index
@@ -150,9 +202,8 @@ def index_head_rules(conn: sqlite3.Connection) -> HeadRules:
 
 def _unannotated_trees(conn: sqlite3.Connection) -> Iterator[tuple[int, int]]:
     return conn.execute(
-        "SELECT first_node, last_node FROM tree WHERE NOT EXISTS "
-        "(SELECT 1 FROM node_syntax WHERE node_syntax.id = tree.first_node) "
-        "ORDER BY first_node")
+        "SELECT first_node, last_node FROM tree WHERE "
+        "(SELECT head FROM node WHERE node.id = tree.first_node) IS NULL ORDER BY first_node")
 
 
 def _batches(trees: list[tuple[int, int]]) -> Iterator[list[tuple[int, int]]]:
@@ -160,9 +211,9 @@ def _batches(trees: list[tuple[int, int]]) -> Iterator[list[tuple[int, int]]]:
         yield trees[start:start + TREES_PER_BATCH]
 
 
-def _annotate_batch(conn: sqlite3.Connection, batch: list[tuple[int, int]], codes: _Codes,
+def _annotate_batch(conn: sqlite3.Connection, batch: list[tuple[int, int]], codes: SyntaxCodes,
                     heads: _HeadCache) -> None:
-    syntax_rows: list[tuple] = []
+    updates: list[tuple] = []
     link_rows: list[tuple] = []
     # one read per batch; trees are contiguous id ranges within it
     every = conn.execute(NODE_COLUMNS_SQL, (batch[0][0], batch[-1][1])).fetchall()
@@ -172,19 +223,48 @@ def _annotate_batch(conn: sqlite3.Connection, batch: list[tuple[int, int]], code
         rows = every[start:start + last - first + 1] if start is not None else []
         if not rows:
             continue
-        tree_rows, tree_links = tree_syntax(rows, codes, heads)
-        syntax_rows.extend(tree_rows)
+        ids, lasts, parents, n_children, labels, words, tok_firsts = zip(*rows, strict=True)
+        offsets, branch_up, reaches, tree_links = tree_syntax(
+            first, lasts, parents, n_children, labels, words, tok_firsts, codes, heads)
+        updates.extend(zip(offsets, branch_up, reaches, ids, strict=True))
         link_rows.extend(tree_links)
-    conn.executemany(INSERT_SYNTAX, syntax_rows)
-    conn.executemany(INSERT_LINK, link_rows)
+    conn.executemany(UPDATE_SYNTAX, updates)
+    conn.executemany("DELETE FROM link WHERE antecedent BETWEEN ? AND ?",
+                     [(first, last) for first, last in batch])
+    write_links(conn, link_rows)
+
+
+def prepare_head_rules(conn: sqlite3.Connection, head_rules: str | Path | None = None
+                       ) -> HeadRules:
+    """The rules new trees are annotated with while they are loaded.
+
+    Rules other than the stored ones are stored now, and what the old rules computed is
+    dropped (annotate_index then annotates the older trees again).
+    """
+    rules = load_head_rules(head_rules) if head_rules is not None else index_head_rules(conn)
+    if _stored_rules(conn) != rules.text:
+        own_transaction = not conn.in_transaction
+        if own_transaction:
+            conn.execute("BEGIN")
+        _mark_unannotated(conn)
+        conn.execute("INSERT OR REPLACE INTO meta(key, value) VALUES (?, ?)",
+                     (RULES_KEY, rules.text))
+        if own_transaction:
+            conn.execute("COMMIT")
+    return rules
+
+
+def _mark_unannotated(conn: sqlite3.Connection) -> None:
+    """A root without a head marks its tree as not annotated (with the current rules)."""
+    conn.execute("UPDATE node SET head = NULL WHERE id IN (SELECT first_node FROM tree)")
 
 
 def annotate_index(conn: sqlite3.Connection, head_rules: str | Path | None = None) -> int:
-    """Fill node_syntax and link for every tree that lacks them; returns trees annotated.
+    """Fill the syntax columns and links of every tree that lacks them (its root has no
+    head); returns trees annotated.
 
-    (Rows of deleted nodes go with them: a trigger, schema.py.) With `head_rules` (a
-    file) different from the rules stored in the index, every tree is annotated again
-    with the new rules, which are then stored.
+    With `head_rules` (a file) different from the rules stored in the index, every tree
+    is annotated again with the new rules, which are then stored.
     """
     stored = _stored_rules(conn)
     rules = load_head_rules(head_rules) if head_rules is not None else index_head_rules(conn)
@@ -193,8 +273,7 @@ def annotate_index(conn: sqlite3.Connection, head_rules: str | Path | None = Non
         conn.execute("BEGIN")
     try:
         if stored != rules.text:
-            conn.execute("DELETE FROM node_syntax")
-            conn.execute("DELETE FROM link")  # links do not depend on rules; cheap to redo
+            _mark_unannotated(conn)
             conn.execute("INSERT OR REPLACE INTO meta(key, value) VALUES (?, ?)",
                          (RULES_KEY, rules.text))
         codes, heads = _codes(conn), _HeadCache(rules)

@@ -9,7 +9,9 @@ files, numbered in order by one set of code tables.
 Messages, in file order (`number` is the file's place in the list):
     ("unchanged", number)                        same content as the indexed document
     ("begin", number, sha256)                    the file's rows follow
-    ("rows", number, flat_node_rows, tree_rows)  one batch (see rows.fast_rows)
+    ("rows", number, flat_node_rows, tree_rows, link_rows)
+                                                 one batch (see rows.fast_rows and
+                                                 linguistics.annotate_rows)
     ("restart", number)                          forget this file's rows so far
     ("done", number, FileCounts, skipped, pending_codes)
     ("failed", number, error_fields)             the whole file failed (after "begin" or not)
@@ -29,6 +31,8 @@ from pathlib import Path
 
 from ..errors import TreebankFormatError
 from ..read.sources import file_sha256
+from .heads import HeadRules
+from .linguistics import Annotator
 from .rows import NODE_COLUMNS, RESTART, CodeTables, file_rows
 
 QUEUE_MESSAGES = 6  # batches in flight between worker and writer: bounds the memory
@@ -57,13 +61,17 @@ def error_fields(error: TreebankFormatError) -> tuple:
 
 
 def file_messages(files: list[Path], existing: dict[str, str], codes: CodeTables,
-                  first_node: int, first_tree: int, strict: bool) -> Iterator[tuple]:
+                  first_node: int, first_tree: int, strict: bool,
+                  rules: HeadRules) -> Iterator[tuple]:
     """The message stream of the module docstring for `files`.
 
     `existing` maps resolved paths to the content hash already indexed (it is updated
     as files are done, so a file named twice is read once). On a failure the codes of
     the file are taken back, so the next file gets the codes it would have had.
+    Heads, c-command scopes and links are computed here, with `rules`, from the rows
+    just built: the writer then only inserts them.
     """
+    annotate = Annotator(codes, rules)
     node_id, tree_id = first_node, first_tree
     for number, path in enumerate(files):
         resolved = str(path.resolve())
@@ -90,8 +98,10 @@ def file_messages(files: list[Path], existing: dict[str, str], codes: CodeTables
                     counts = FileCounts()
                     yield ("restart", number)
                     continue
-                counts.add(batch[0], len(batch[1]))
-                yield ("rows", number, batch[0], batch[1])
+                flat, trees = batch
+                links = annotate(flat, trees)  # fills the syntax columns of `flat`
+                counts.add(flat, len(trees))
+                yield ("rows", number, flat, trees, links)
         except TreebankFormatError as error:
             codes.rollback()
             yield ("failed", number, error_fields(error))
@@ -103,13 +113,16 @@ def file_messages(files: list[Path], existing: dict[str, str], codes: CodeTables
     yield ("end",)
 
 
-def _worker(files, existing, code_state, first_node, first_tree, strict, messages) -> None:
-    """The worker process: the message stream into `messages`, node rows as int64 bytes."""
+def _worker(files, existing, code_state, first_node, first_tree, strict, rules,
+            messages) -> None:
+    """The worker process: the message stream into `messages`, flat rows as int64 bytes."""
     try:
         codes = CodeTables.from_state(code_state)
-        for message in file_messages(files, existing, codes, first_node, first_tree, strict):
+        for message in file_messages(files, existing, codes, first_node, first_tree, strict,
+                                     rules):
             if message[0] == "rows":
-                message = ("rows", message[1], array("q", message[2]).tobytes(), message[3])
+                _, number, flat, trees, links = message
+                message = ("rows", number, array("q", flat).tobytes(), trees, links)
             messages.put(message)
     except BaseException:  # noqa: BLE001 - reported to the writer, which raises it
         messages.put(("crash", traceback.format_exc()))
@@ -119,7 +132,7 @@ class WorkerStream:
     """The message stream of a worker process, read in the writer's process."""
 
     def __init__(self, files: list[Path], existing: dict[str, str], codes: CodeTables,
-                 first_node: int, first_tree: int, strict: bool):
+                 first_node: int, first_tree: int, strict: bool, rules: HeadRules):
         # fork starts at once and needs no importable __main__; elsewhere spawn is the
         # safe default (macOS, Windows)
         method = "fork" if sys.platform.startswith("linux") else "spawn"
@@ -127,7 +140,8 @@ class WorkerStream:
         self.queue: multiprocessing.Queue = context.Queue(QUEUE_MESSAGES)
         self.process = context.Process(
             target=_worker, name="treequery-rows", daemon=True,
-            args=(files, existing, codes.state(), first_node, first_tree, strict, self.queue))
+            args=(files, existing, codes.state(), first_node, first_tree, strict, rules,
+                  self.queue))
         self.process.start()
 
     def __iter__(self) -> Iterator[tuple]:
@@ -135,9 +149,10 @@ class WorkerStream:
             message = self._next()
             kind = message[0]
             if kind == "rows":
+                _, number, flat_bytes, trees, links = message
                 flat = array("q")
-                flat.frombytes(message[2])
-                message = ("rows", message[1], flat, message[3])
+                flat.frombytes(flat_bytes)
+                message = ("rows", number, flat, trees, links)
             elif kind == "crash":
                 raise RuntimeError(f"the row-building process failed:\n{message[1]}")
             yield message

@@ -37,6 +37,15 @@ class CodeTables:
         }
         self.next_label = (conn.execute("SELECT max(code) FROM label").fetchone()[0] or 0) + 1
         self.next_word = (conn.execute("SELECT max(code) FROM word").fetchone()[0] or 0) + 1
+        # what the index-time annotation (linguistics.py) needs, kept in step with the codes
+        self.categories: dict[int, str] = {}
+        self.coindexes: dict[int, int] = {}
+        self.gapindexes: dict[int, int] = {}
+        for code, category, coindex, gapindex in conn.execute(
+                "SELECT code, category, coindex, gapindex FROM label"):
+            self._note_label(code, category, coindex, gapindex)
+        self.ref_indexes: dict[int, int] = dict(conn.execute(
+            "SELECT code, ref_index FROM word WHERE ref_index IS NOT NULL"))
         self._reset_pending()
 
     @classmethod
@@ -51,7 +60,9 @@ class CodeTables:
         """What a worker process needs to hand out the same codes as this process."""
         return {"labels": self.labels, "words": self.words, "forms": self.forms,
                 "empty_words": self.empty_words, "next_label": self.next_label,
-                "next_word": self.next_word}
+                "next_word": self.next_word, "categories": self.categories,
+                "coindexes": self.coindexes, "gapindexes": self.gapindexes,
+                "ref_indexes": self.ref_indexes}
 
     def take_pending(self) -> tuple[list, list, list]:
         """This file's new labels, new words and newly empty words; forgets them here."""
@@ -81,7 +92,16 @@ class CodeTables:
         self.labels[text] = code
         self.new_labels.append((code, text, parts.category, "-".join(parts.functions),
                                 parts.coindex, parts.gapindex))
+        self._note_label(code, parts.category, parts.coindex, parts.gapindex)
         return code
+
+    def _note_label(self, code: int, category: str, coindex: int | None,
+                    gapindex: int | None) -> None:
+        self.categories[code] = category
+        if coindex is not None:
+            self.coindexes[code] = coindex
+        if gapindex is not None:
+            self.gapindexes[code] = gapindex
 
     def word(self, text: str, empty: bool) -> int:
         code = self.next_word
@@ -92,6 +112,8 @@ class CodeTables:
         kind, ref_index = self._empty_kind(text) if empty else (None, None)
         if empty:
             self.empty_words.add(code)
+        if ref_index is not None:
+            self.ref_indexes[code] = ref_index
         self.new_words.append((code, text, form, kind, ref_index))
         return code
 
@@ -99,6 +121,8 @@ class CodeTables:
         """A word first seen as an overt word now also occurs under -NONE-."""
         self.empty_words.add(code)
         kind, ref_index = self._empty_kind(text)
+        if ref_index is not None:
+            self.ref_indexes[code] = ref_index
         self.newly_empty.append((kind, ref_index, code))
 
     @staticmethod
@@ -112,12 +136,17 @@ class CodeTables:
     def rollback(self) -> None:
         for row in self.new_labels:
             del self.labels[row[1]]
+            del self.categories[row[0]]
+            self.coindexes.pop(row[0], None)
+            self.gapindexes.pop(row[0], None)
         for row in self.new_words:
             del self.words[row[1]]
             del self.forms[row[0]]
             self.empty_words.discard(row[0])
+            self.ref_indexes.pop(row[0], None)
         for row in self.newly_empty:
             self.empty_words.discard(row[2])
+            self.ref_indexes.pop(row[2], None)
         if self.new_labels:
             self.next_label = self.new_labels[0][0]
         if self.new_words:
@@ -161,18 +190,18 @@ def node_rows(root, tree_id: int, first_id: int, codes: CodeTables) -> tuple[lis
                 if word_code not in empty_words:
                     codes.mark_empty(word_code, word)
                 append((node_id, node_id, tree_id, parent, depth, position, 0, code,
-                        word_code, leaf, leaf, None, None))
+                        word_code, leaf, leaf, None, None, None, None, None))
             else:
                 word_code = words.get(word) or codes.word(word, False)
                 tok += 1
                 tokens.append(word_code)
                 append((node_id, node_id, tree_id, parent, depth, position, 0, code,
-                        word_code, leaf, leaf, tok, tok))
+                        word_code, leaf, leaf, tok, tok, None, None, None))
             continue
         children = node.children
         n_children = len(children)
         row = [node_id, 0, tree_id, parent, depth, position, n_children, code, None,
-               leaf + 1, 0, tok + 1, None]
+               leaf + 1, 0, tok + 1, None, None, None, None]
         append(row)
         push((None, row, 0, 0))
         extend(zip(reversed(children), repeat(node_id), repeat(depth + 1),
@@ -182,13 +211,14 @@ def node_rows(root, tree_id: int, first_id: int, codes: CodeTables) -> tuple[lis
 
 # -- the fast path: bracketed text straight to flat node rows ---------------------------
 
-# Node rows of the fast path are flat lists of ints, 13 per node, with NO_VALUE where
+# Node rows of the fast path are flat lists of ints, 16 per node, with NO_VALUE where
 # the column is NULL: ints move between processes as raw bytes and bind to SQLite
 # without a Python tuple being built per node (the INSERT turns NO_VALUE into NULL).
+# The last three (head, branch_up, branch_reach) are filled in by linguistics.py.
 NO_VALUE = -1
-NODE_COLUMNS = 13
+NODE_COLUMNS = 16
 INSERT_FLAT_NODE = ("INSERT INTO node VALUES (?,?,?,nullif(?,-1),?,?,?,?,nullif(?,-1),?,?,"
-                    "nullif(?,-1),nullif(?,-1))")
+                    "nullif(?,-1),nullif(?,-1),nullif(?,-1),nullif(?,-1),nullif(?,-1))")
 FLAT_BATCH = 65_000 * NODE_COLUMNS  # values per batch handed to the writer
 
 # One findall over a chunk of whole lines. Groups: preterminal tag and word when the
@@ -255,13 +285,14 @@ def fast_rows(chunks: Iterable[str], codes: CodeTables, first_node: int,
                     if word_code not in empty_words:
                         codes.mark_empty(word_code, word)
                     extend((node_id, node_id, tree_id, parent, depth, position, 0, code,
-                            word_code, leaf, leaf, NO_VALUE, NO_VALUE))
+                            word_code, leaf, leaf, NO_VALUE, NO_VALUE, NO_VALUE, NO_VALUE,
+                            NO_VALUE))
                 else:
                     word_code = words.get(word) or new_word(word, False)
                     tok += 1
                     tokens.append(word_code)
                     extend((node_id, node_id, tree_id, parent, depth, position, 0, code,
-                            word_code, leaf, leaf, tok, tok))
+                            word_code, leaf, leaf, tok, tok, NO_VALUE, NO_VALUE, NO_VALUE))
                 node_id += 1
                 if ids:
                     continue
@@ -278,7 +309,7 @@ def fast_rows(chunks: Iterable[str], codes: CodeTables, first_node: int,
                 ids.append(node_id)
                 kids.append(0)
                 extend((node_id, 0, tree_id, parent, depth, position, 0, code, NO_VALUE,
-                        leaf + 1, 0, tok + 1, NO_VALUE))
+                        leaf + 1, 0, tok + 1, NO_VALUE, NO_VALUE, NO_VALUE, NO_VALUE))
                 node_id += 1
                 continue
             elif close:
@@ -313,7 +344,7 @@ def fast_rows(chunks: Iterable[str], codes: CodeTables, first_node: int,
                 ids.append(node_id)
                 kids.append(0)
                 extend((node_id, 0, tree_id, NO_VALUE, 0, 1, 0, code, NO_VALUE,
-                        1, 0, 1, NO_VALUE))
+                        1, 0, 1, NO_VALUE, NO_VALUE, NO_VALUE, NO_VALUE))
                 node_id += 1
                 continue
             # a tree has just closed

@@ -13,7 +13,9 @@ from __future__ import annotations
 
 import sqlite3
 
-SCHEMA_VERSION = 1
+from ..errors import TreequeryError
+
+SCHEMA_VERSION = 2  # 2: heads and c-command scopes are node columns
 
 SCHEMA = """
 CREATE TABLE IF NOT EXISTS meta (
@@ -89,15 +91,12 @@ CREATE TABLE IF NOT EXISTS node (
     leaf_first INTEGER NOT NULL,             -- 1-based, counting empty elements
     leaf_last  INTEGER NOT NULL,
     tok_first  INTEGER,                      -- 1-based, overt words only; NULL when the
-    tok_last   INTEGER                       -- node covers no overt word
-);
-
--- Added for heads, c-command and coindexation (treequery/index/linguistics.py fills
--- them after the nodes are loaded). Values are offsets from the node's own id, so
--- they are small numbers that SQLite stores in one or two bytes.
-CREATE TABLE IF NOT EXISTS node_syntax (
-    id           INTEGER PRIMARY KEY,        -- node.id
-    head         INTEGER NOT NULL,           -- lexical head's id - id (0 on preterminals)
+    tok_last   INTEGER,                      -- node covers no overt word
+    -- Heads and c-command scopes (treequery/index/linguistics.py computes them as the
+    -- rows are built). Offsets from the node's own id: small numbers that SQLite
+    -- stores in one byte or two.
+    head         INTEGER,                    -- lexical head's id - id (0 on preterminals);
+                                             -- NULL on a root: tree not annotated yet
     branch_up    INTEGER,                    -- id - id of the first ancestor with >= 2
                                              -- children; NULL when there is none
     branch_reach INTEGER                     -- that ancestor's last - id
@@ -114,10 +113,9 @@ CREATE TABLE IF NOT EXISTS link (
 ) WITHOUT ROWID;
 CREATE INDEX IF NOT EXISTS link_target ON link(target, antecedent);
 
--- Deleting nodes (re-indexing a document) deletes what was computed for them; a link
--- never leaves its tree, so its antecedent goes with it.
-CREATE TRIGGER IF NOT EXISTS node_syntax_follows_node AFTER DELETE ON node BEGIN
-    DELETE FROM node_syntax WHERE id = old.id;
+-- Deleting nodes (re-indexing a document) deletes their links; a link never leaves
+-- its tree, so its antecedent goes with it.
+CREATE TRIGGER IF NOT EXISTS links_follow_node AFTER DELETE ON node BEGIN
     DELETE FROM link WHERE antecedent = old.id;
 END;
 """
@@ -143,6 +141,25 @@ def connect(path: str, readonly: bool = False) -> sqlite3.Connection:
     conn.execute("PRAGMA cache_size=-65536")  # 64 MiB page cache
     conn.execute("PRAGMA temp_store=MEMORY")
     return conn
+
+
+def schema_version(conn: sqlite3.Connection) -> int | None:
+    """The schema version an index was built with (None: not an index yet)."""
+    try:
+        row = conn.execute("SELECT value FROM meta WHERE key = 'schema_version'").fetchone()
+    except sqlite3.OperationalError:  # no meta table: an empty or foreign database
+        return None
+    return int(row[0]) if row else None
+
+
+def check_schema_version(conn: sqlite3.Connection, path: str) -> None:
+    """Refuse an index of another schema version with what to do about it."""
+    found = schema_version(conn)
+    if found is not None and found != SCHEMA_VERSION:
+        raise TreequeryError(
+            f"{path} was built by another version of treequery (index schema {found}, this "
+            f"version reads {SCHEMA_VERSION}); build it again with `treequery index --db "
+            f"NEW.db FILES...`")
 
 
 def create_schema(conn: sqlite3.Connection) -> None:

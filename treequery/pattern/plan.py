@@ -13,7 +13,7 @@ from dataclasses import dataclass, replace
 
 import regex
 
-from treequery.errors import PatternCheckError, TreequeryError
+from treequery.errors import PatternCheckError
 from treequery.pattern.ast import (
     all_node_vars,
     walk_conditions,
@@ -22,17 +22,15 @@ from treequery.pattern.ast import (
     CategoryRegex,
     Compare,
     Condition,
-    Exists,
     LabelNot,
     LabelOneOf,
     LabelTest,
     Literal,
     NodeVar,
-    Not,
     Pattern,
     Relation,
 )
-from treequery.pattern.sql import SYNTAX_RELATIONS, anchors, compile_regex, conjuncts
+from treequery.pattern.sql import anchors, compile_regex, conjuncts
 
 # Shape of typical constituency trees, used to guess how many candidates a probe
 # meets (common practice: rough constants; only their order of magnitude matters).
@@ -101,7 +99,6 @@ DOMINATING_KINDS = ("dominates", "starts-with", "ends-with")
 # Relations in which the left node lies wholly before the right one: in pre-order the
 # nodes after a node's subtree (in its tree) are exactly the nodes to its right.
 PRECEDENCE_KINDS = ("precedes", "just-before")
-SYNTAX_KINDS = frozenset(SYNTAX_RELATIONS) - {"same-span-as", "starts-with", "ends-with"}
 
 
 @dataclass(frozen=True, slots=True)
@@ -445,41 +442,6 @@ def _orders(variables: tuple[NodeVar, ...], cond: Condition, matches: dict[str, 
         yield tuple(order)
 
 
-SYNTAX_ATTRIBUTES = frozenset({"headword", "headtag"})
-
-
-def _uses_syntax_index(pattern: Pattern) -> bool:
-    """Whether the pattern needs node_syntax / link (issue 4 relations and head attributes)."""
-    def walk(cond: Condition) -> bool:
-        if isinstance(cond, Relation):
-            return cond.kind in SYNTAX_KINDS
-        if isinstance(cond, Compare):
-            names = {cond.left.name} | ({cond.right.name} if hasattr(cond.right, "name")
-                                         else set())
-            return bool(names & SYNTAX_ATTRIBUTES)
-        if isinstance(cond, Exists):
-            return walk(cond.condition)
-        if isinstance(cond, Not):
-            return walk(cond.item)
-        return any(walk(item) for item in getattr(cond, "items", ()))
-
-    return walk(pattern.condition)
-
-
-def _check_syntax_index(conn: sqlite3.Connection, pattern: Pattern) -> None:
-    """An index built before heads and links were indexed cannot answer such patterns."""
-    if not _uses_syntax_index(pattern):
-        return
-    has_table = conn.execute("SELECT count(*) FROM sqlite_master WHERE type = 'table' "
-                             "AND name = 'node_syntax'").fetchone()[0]
-    if has_table and (conn.execute("SELECT EXISTS (SELECT 1 FROM node_syntax)").fetchone()[0]
-                      or not conn.execute("SELECT EXISTS (SELECT 1 FROM node)").fetchone()[0]):
-        return
-    raise TreequeryError(
-        "this index was built before heads, c-command and coindexation were indexed; "
-        "run `treequery index --db DB` on its files again to add them")
-
-
 def make_plan(conn: sqlite3.Connection, pattern: Pattern, count_empty: bool = False,
               order: Sequence[str] | None = None) -> Plan:
     """Choose the join order of the pattern's top-level nodes from the index statistics.
@@ -489,7 +451,6 @@ def make_plan(conn: sqlite3.Connection, pattern: Pattern, count_empty: bool = Fa
     if not pattern.vars:
         raise PatternCheckError("the pattern has no node", pattern.text, 0)
     _check_regexes(pattern)
-    _check_syntax_index(conn, pattern)
     stats = _cached_stats(conn)
     matches = {v.name: _estimate(conn, stats, v) for v in pattern.vars}
     tree_size = stats.total_nodes / max(stats.total_trees, 1)

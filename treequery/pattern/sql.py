@@ -306,8 +306,8 @@ class _Generator:
     # ------------------------------------------------------------ issue 4 relations
 
     def syntax(self, alias: str, column: str) -> str:
-        """A node_syntax column of a node (offsets from the node's id; schema.py)."""
-        return f"(SELECT {column} FROM node_syntax WHERE id = {alias}.id)"
+        """A syntax column of a node (offsets from the node's id; schema.py)."""
+        return f"{alias}.{column}"
 
     def later(self, first: str, second: str) -> bool:
         """Whether alias `second` is joined after `first` (it can then be probed)."""
@@ -543,9 +543,16 @@ def unanchored(variables: tuple[NodeVar, ...], cond: Condition, outer: set[str])
 
 # ---------------------------------------------------------------- statements
 
-def _body(plan: Plan) -> tuple[_Generator, str, str]:
-    """FROM and WHERE text of the main query, following the plan's join order."""
+def _body(plan: Plan, window: bool = False) -> tuple[_Generator, str, str]:
+    """FROM and WHERE text of the main query, following the plan's join order.
+
+    With `window`, the first two parameters bound the ids of the first node joined (both
+    0 here: the caller sets them). Every node of a result lies in that node's tree, so
+    bounds at tree boundaries select whole results: a search can then run in pieces
+    (windows in corpus order, or halves on two connections).
+    """
     gen = _Generator(plan)
+    bounds = (gen.param(0), gen.param(0)) if window else None
     variables = {v.name: v for v in plan.pattern.vars}
     where: list[str] = []
     for step in plan.steps:
@@ -557,6 +564,8 @@ def _body(plan: Plan) -> tuple[_Generator, str, str]:
         elif alias != gen.root:
             where.append(_same_tree(alias, gen.root))
     where += [gen.condition(c) for c in conjuncts(plan.pattern.condition)]
+    if bounds:
+        where.append(f"{gen.root}.id BETWEEN {bounds[0]} AND {bounds[1]}")
     if gen.uses_tree:
         where.insert(0, f"t.id = {gen.root}.tree")
     joiner = " CROSS JOIN " if plan.pin_order else ", "
@@ -596,9 +605,9 @@ def _needs_distinct(plan: Plan) -> bool:
     return set(plan.pattern.result_vars) != {v.name for v in plan.pattern.vars}
 
 
-def to_sql(plan: Plan) -> tuple[str, list]:
+def to_sql(plan: Plan, window: bool = False) -> tuple[str, list]:
     """The search statement: result variables' ids (r0, r1, ...) and tree_id, in corpus order."""
-    gen, tables, where = _body(plan)
+    gen, tables, where = _body(plan, window)
     ids = [f"{gen.alias[name]}.id AS r{i}" for i, name in enumerate(plan.pattern.result_vars)]
     distinct = "DISTINCT " if _needs_distinct(plan) else ""
     order = ", ".join(f"r{i}" for i in range(len(ids)))
@@ -636,14 +645,14 @@ def parse_by(plan: Plan, by) -> tuple[tuple[str, str], ...]:
     return tuple(out)
 
 
-def count_sql(plan: Plan, by=()) -> tuple[str, list]:
+def count_sql(plan: Plan, by=(), window: bool = False) -> tuple[str, list]:
     """Counting statement.
 
     Without `by`: one row (results, trees). With `by`: one row per key,
     (key values..., results in the group, total results, total trees).
     """
     keys = parse_by(plan, by)
-    gen, tables, where = _body(plan)
+    gen, tables, where = _body(plan, window)
     ids = [f"{gen.alias[name]}.id AS r{i}" for i, name in enumerate(plan.pattern.result_vars)]
     id_names = ", ".join(f"r{i}" for i in range(len(ids)))
     tree = f"{gen.root}.tree AS tree_id"
@@ -664,14 +673,20 @@ def count_sql(plan: Plan, by=()) -> tuple[str, list]:
     return sql, gen.params
 
 
+# Node ids where runs of whole trees start (tree ids grow with node ids: both are
+# handed out in order, and a re-indexed document gets new ones at the end).
+TREE_START_SQL = "SELECT first_node FROM tree WHERE id >= ? ORDER BY id LIMIT 1"
+TREE_SPAN_SQL = "SELECT min(id), max(id), max(last_node) FROM tree"
+
+
 # Lookups used when results are shown (fixed text, ids as parameters).
 NODE_DETAILS_SQL = (
     "SELECT n.id, n.last, n.tree, l.text, l.category, l.functions, n.tok_first, n.tok_last "
     "FROM node AS n JOIN label AS l ON l.code = n.label WHERE n.id = ?"
 )
-# The lexical head of a node: node_syntax.head is the offset from the node's id.
+# The lexical head of a node: node.head is the offset from the node's id.
 NODE_HEAD_SQL = (
-    "SELECT w.form, l.category FROM node_syntax AS s JOIN node AS h ON h.id = s.id + s.head "
+    "SELECT w.form, l.category FROM node AS s JOIN node AS h ON h.id = s.id + s.head "
     "JOIN word AS w ON w.code = h.word JOIN label AS l ON l.code = h.label WHERE s.id = ?"
 )
 NODE_WORDS_SQL = (

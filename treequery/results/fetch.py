@@ -4,6 +4,7 @@ from __future__ import annotations
 import sqlite3
 import time
 from collections.abc import Callable, Iterator, Sequence
+from itertools import islice
 from typing import TypeVar
 
 from treequery.errors import SearchTimeout
@@ -25,6 +26,7 @@ from treequery.pattern.sql import (
     to_sql,
     translate_error,
 )
+from treequery.results.split import halves, in_windows, run_in_halves, windows
 from treequery.results.model import BoundNode, CountGroup, CountResult, Result
 
 T = TypeVar("T")
@@ -80,18 +82,35 @@ class _SearchClock:
 
 def fetch_results(conn: sqlite3.Connection, plan: Plan, limit: int | None = None,
                   offset: int = 0, timeout: float | None = None) -> Iterator[Result]:
-    """Stream the distinct results of a plan in corpus order."""
-    sql, params = page_sql(plan, limit, offset)
+    """Stream the distinct results of a plan in corpus order.
+
+    On a large index the search runs in growing windows of whole trees (split.py), so
+    the first results arrive without waiting for the whole search.
+    """
     names = plan.pattern.result_vars
     with _SearchClock(conn, timeout) as clock:
-        cursor = clock.run(conn.execute, sql, params)
         locations: dict[int, tuple] = {}
-        while True:
-            rows = clock.run(cursor.fetchmany, FETCH_BATCH)
-            if not rows:
-                return
-            for row in rows:
-                yield _result(conn, names, row, locations)
+        for row in _result_rows(conn, plan, clock, limit, offset):
+            yield _result(conn, names, row, locations)
+
+
+def _result_rows(conn: sqlite3.Connection, plan: Plan, clock: _SearchClock,
+                 limit: int | None, offset: int) -> Iterator[tuple]:
+    ranges = windows(conn)
+    if ranges is None:
+        sql, params = page_sql(plan, limit, offset)
+        yield from _cursor_rows(conn, clock, sql, params)
+        return
+    sql, params = to_sql(plan, window=True)
+    rows = in_windows(ranges, lambda span: _cursor_rows(conn, clock, sql, [*span, *params[2:]]))
+    yield from islice(rows, offset, None if limit is None else offset + limit)
+
+
+def _cursor_rows(conn: sqlite3.Connection, clock: _SearchClock, sql: str, params: list
+                 ) -> Iterator[tuple]:
+    cursor = clock.run(conn.execute, sql, params)
+    while rows := clock.run(cursor.fetchmany, FETCH_BATCH):
+        yield from rows
 
 
 def _result(conn: sqlite3.Connection, names: Sequence[str], row: tuple,
@@ -118,16 +137,24 @@ def bound_node(conn: sqlite3.Connection, node_id: int) -> BoundNode:
 # ---------------------------------------------------------------- counting
 
 def count_results(conn: sqlite3.Connection, plan: Plan, by=(),
-                  timeout: float | None = None) -> CountResult:
+                  timeout: float | None = None,
+                  partner: sqlite3.Connection | None = None) -> CountResult:
     """Count distinct results and trees; with `by`, group results by attribute values.
 
     `by` holds ("var", "attr") pairs or "var.attr" strings. Groups are sorted by
-    number of results (most first), then by key.
+    number of results (most first), then by key. With `partner`, a second connection
+    to the same index, a large index is counted in two halves at once (split.py).
     """
     keys = parse_by(plan, by)
-    sql, params = count_sql(plan, keys)
-    with _SearchClock(conn, timeout) as clock:
-        rows = clock.run(lambda: conn.execute(sql, params).fetchall())
+    ranges = halves(conn) if partner is not None else None
+    if ranges is None:
+        sql, params = count_sql(plan, keys)
+        rows = _count_rows(conn, sql, params, timeout)
+    else:
+        sql, params = count_sql(plan, keys, window=True)
+        parts = run_in_halves([conn, partner], ranges, lambda part, span: _count_rows(
+            part, sql, [*span, *params[2:]], timeout))
+        rows = _merge_count_rows(parts, len(keys))
     labels = tuple(f"{var}.{attr}" for var, attr in keys)
     if not keys:
         results, trees = rows[0]
@@ -139,6 +166,25 @@ def count_results(conn: sqlite3.Connection, plan: Plan, by=(),
     groups.sort(key=lambda g: (-g.results, _sortable(g.key)))
     results, trees = rows[0][len(keys) + 1], rows[0][len(keys) + 2]
     return CountResult(results, trees, labels, tuple(groups))
+
+
+def _count_rows(conn: sqlite3.Connection, sql: str, params: list,
+                timeout: float | None) -> list[tuple]:
+    with _SearchClock(conn, timeout) as clock:
+        return clock.run(lambda: conn.execute(sql, params).fetchall())
+
+
+def _merge_count_rows(parts: list[list[tuple]], n_keys: int) -> list[tuple]:
+    """The rows of count_sql for the whole index from those of disjoint parts of it."""
+    if not n_keys:
+        return [tuple(map(sum, zip(*(rows[0] for rows in parts), strict=True)))]
+    groups: dict[tuple, int] = {}
+    for rows in parts:
+        for row in rows:
+            groups[row[:n_keys]] = groups.get(row[:n_keys], 0) + row[n_keys]
+    results = sum(rows[0][n_keys + 1] for rows in parts if rows)
+    trees = sum(rows[0][n_keys + 2] for rows in parts if rows)
+    return [(*key, n, results, trees) for key, n in groups.items()]
 
 
 def _key(values: Sequence, bools: Sequence[bool]) -> tuple:
