@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 import os
-import sqlite3
 from collections.abc import Iterable, Iterator
 from dataclasses import replace
 from pathlib import Path
@@ -37,21 +36,24 @@ class Treebank:
         from .pattern.sql import register_functions
 
         register_functions(self.conn)
-        self._partner: sqlite3.Connection | None = None
+        self._partner = None  # a results.partner.Partner once a large count needs one
 
     def close(self) -> None:
         if self._partner is not None:
             self._partner.close()
         self.conn.close()
 
-    def partner_connection(self) -> sqlite3.Connection | None:
-        """A second, read-only connection to the index file, so a count can use both
-        cores (results/split.py); None for an index that is not a file."""
-        if self._partner is None and self.path.is_file() and (os.cpu_count() or 1) > 1:
-            from .pattern.sql import register_functions
+    def partner_process(self):
+        """The process that counts every other chunk of a large count on the other core
+        (results/partner.py), started on first use; None where it cannot help."""
+        from .results.fetch import count_chunk
+        from .results.partner import Partner
 
-            self._partner = schema.connect(str(self.path), readonly=True)
-            register_functions(self._partner)
+        if self._partner is not None and not self._partner.alive():
+            self._partner.close()  # it failed, or still counts for a search that failed
+            self._partner = None
+        if self._partner is None and self.path.is_file() and (os.cpu_count() or 1) > 1:
+            self._partner = Partner(self.path, count_chunk)
         return self._partner
 
     def __enter__(self) -> Treebank:
@@ -190,7 +192,7 @@ class Treebank:
         keys = [parse_group_key(text, compiled) for text in by]
         plan = self.plan(compiled, count_empty=count_empty)
         counted = count_results(self.conn, plan, by=keys, timeout=timeout,
-                                partner=self.partner_connection())
+                                partner=self.partner_process)
         # Report the keys as the user wrote them (`word`, not the internal `_1.word`).
         return replace(counted, by=tuple(by))
 

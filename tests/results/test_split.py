@@ -1,8 +1,8 @@
 """A search run in pieces of whole trees gives exactly what one statement gives.
 
-Windows (streaming in corpus order) and halves (counting on two connections) only
+Windows (streaming in corpus order) and chunks (counting on two connections) only
 start on large indexes; here the thresholds are lowered so that the real WSJ sample
-(3,914 trees) is split into many small windows and two halves, and every pattern of
+(3,914 trees) is split into many small windows and chunks, and every pattern of
 the differential suite (tests/reference/suite.py) is run both ways. The reference is
 the same engine run as one statement, which the differential tests check against the
 brute-force matcher.
@@ -33,11 +33,12 @@ def _ids(results) -> list[tuple]:
 
 @pytest.fixture
 def pieces(monkeypatch):
-    """Windows of 7 trees growing threefold; halves from 2 trees on."""
+    """Windows of 7 trees growing threefold; chunks of 301 trees from 2 trees on."""
     monkeypatch.setattr(split, "WINDOW_MIN_TREES", 2)
     monkeypatch.setattr(split, "WINDOW_FIRST_TREES", 7)
     monkeypatch.setattr(split, "WINDOW_GROWTH", 3)
     monkeypatch.setattr(split, "SPLIT_MIN_TREES", 2)
+    monkeypatch.setattr(split, "CHUNK_TREES", 301)
 
 
 def _whole(bank: Treebank, call):
@@ -58,11 +59,14 @@ def test_the_pieces_cover_every_tree_once(bank, pieces):
     starts = {row[0] for row in bank.conn.execute("SELECT first_node FROM tree")}
     assert all(low in starts for low, _ in ranges)  # every piece starts at a tree's root
     assert len(ranges) > 5
-    assert len(split.halves(bank.conn)) == 2
+    parts = split.chunks(bank.conn)
+    assert len(parts) == 14  # 3,914 trees in chunks of 301 (the sample's count, README)
+    assert all(a[1] + 1 == b[0] for a, b in zip(parts, parts[1:], strict=False))
+    assert (parts[0][0], parts[-1][1]) == (first, last)
 
 
 @pytest.mark.parametrize("case", SUITE, ids=[case.name for case in SUITE])
-def test_windows_and_halves_agree_with_one_statement(bank, pieces, case):
+def test_windows_and_chunks_agree_with_one_statement(bank, pieces, case):
     whole = _whole(bank, lambda: _ids(bank.find(case.text, count_empty=case.count_empty)))
     assert _ids(bank.find(case.text, count_empty=case.count_empty)) == whole
     # a page from the middle: offset and limit across window boundaries
@@ -73,7 +77,17 @@ def test_windows_and_halves_agree_with_one_statement(bank, pieces, case):
 
 
 @pytest.mark.parametrize(("text", "by"), GROUPED)
-def test_grouped_counts_in_halves_equal_one_statement(bank, pieces, text, by):
+def test_grouped_counts_in_chunks_equal_one_statement(bank, pieces, text, by):
     whole = _whole(bank, lambda: bank.count(text, by=by))
-    assert bank.partner_connection() is not None
+    assert bank.partner_process() is not None
     assert bank.count(text, by=by) == whole
+
+
+def test_a_time_limit_covers_all_chunks_together(bank, pieces):
+    from treequery.errors import SearchTimeout
+
+    with pytest.raises(SearchTimeout, match="time limit of 0.05 s"):
+        bank.count("a:* dominates b:*; b precedes c:*", timeout=0.05)
+    # both connections are usable afterwards
+    assert bank.count("x:NP", by=("x.functions",)) == _whole(
+        bank, lambda: bank.count("x:NP", by=("x.functions",)))

@@ -663,11 +663,14 @@ def count_sql(plan: Plan, by=(), window: bool = False) -> tuple[str, list]:
     values = [f"{gen.value(Attr(var, attr, plan.pattern.vars[0].span))} AS k{i}"
               for i, (var, attr) in enumerate(keys)]
     key_names = ", ".join(f"k{i}" for i in range(len(keys)))
-    inner = f"SELECT DISTINCT {', '.join(ids + [tree] + values)} FROM {tables} WHERE {where}"
+    # keys are functions of the result ids: rows distinct by ids are distinct with keys
+    distinct = "DISTINCT " if _needs_distinct(plan) else ""
+    inner = f"SELECT {distinct}{', '.join(ids + [tree] + values)} FROM {tables} WHERE {where}"
+    results = (f"(SELECT COUNT(*) FROM (SELECT DISTINCT {id_names} FROM m))" if distinct
+               else "(SELECT COUNT(*) FROM m)")
     hint = "MATERIALIZED " if sqlite3.sqlite_version_info >= (3, 35, 0) else ""
     sql = (f"WITH m AS {hint}({inner}) "
-           f"SELECT {key_names}, COUNT(*), "
-           f"(SELECT COUNT(*) FROM (SELECT DISTINCT {id_names} FROM m)), "
+           f"SELECT {key_names}, COUNT(*), {results}, "
            f"(SELECT COUNT(DISTINCT tree_id) FROM m) "
            f"FROM m GROUP BY {key_names}")
     return sql, gen.params

@@ -26,7 +26,8 @@ from treequery.pattern.sql import (
     to_sql,
     translate_error,
 )
-from treequery.results.split import halves, in_windows, run_in_halves, windows
+from treequery.results.partner import Partner
+from treequery.results.split import chunks, in_windows, windows
 from treequery.results.model import BoundNode, CountGroup, CountResult, Result
 
 T = TypeVar("T")
@@ -41,9 +42,13 @@ class _SearchClock:
     use up the search's budget. The progress handler is removed on close.
     """
 
-    def __init__(self, conn: sqlite3.Connection, timeout: float | None):
+    def __init__(self, conn: sqlite3.Connection, timeout: float | None,
+                 spent: float = 0.0, limit: float | None = None):
+        # `spent`: time already used by earlier parts of the same search; `limit`: the
+        # limit to name in the message (the whole search's)
         self.conn, self.timeout = conn, timeout
-        self.spent = 0.0
+        self.limit = timeout if limit is None else limit
+        self.spent = spent
         self.since: float | None = None
 
     def _expired(self) -> int:
@@ -69,7 +74,7 @@ class _SearchClock:
         except sqlite3.OperationalError as err:
             if self.timeout is not None and self._expired():
                 raise SearchTimeout(
-                    f"the search took longer than its time limit of {self.timeout:g} s "
+                    f"the search took longer than its time limit of {self.limit:g} s "
                     f"and was stopped (make the pattern more specific or raise the limit)"
                 ) from None
             raise translate_error(err) from err
@@ -138,22 +143,30 @@ def bound_node(conn: sqlite3.Connection, node_id: int) -> BoundNode:
 
 def count_results(conn: sqlite3.Connection, plan: Plan, by=(),
                   timeout: float | None = None,
-                  partner: sqlite3.Connection | None = None) -> CountResult:
+                  partner: Callable[[], Partner | None] | None = None) -> CountResult:
     """Count distinct results and trees; with `by`, group results by attribute values.
 
     `by` holds ("var", "attr") pairs or "var.attr" strings. Groups are sorted by
-    number of results (most first), then by key. With `partner`, a second connection
-    to the same index, a large index is counted in two halves at once (split.py).
+    number of results (most first), then by key. A large index is counted in chunks of
+    whole trees (split.py), which bound the memory a grouped count needs; `partner`
+    gives a process that counts every other chunk meanwhile (partner.py).
     """
     keys = parse_by(plan, by)
-    ranges = halves(conn) if partner is not None else None
+    ranges = chunks(conn)
     if ranges is None:
         sql, params = count_sql(plan, keys)
         rows = _count_rows(conn, sql, params, timeout)
     else:
         sql, params = count_sql(plan, keys, window=True)
-        parts = run_in_halves([conn, partner], ranges, lambda part, span: _count_rows(
-            part, sql, [*span, *params[2:]], timeout))
+        helper = partner() if partner is not None else None
+        mine, theirs = (ranges, []) if helper is None else (ranges[0::2], ranges[1::2])
+        if theirs:
+            helper.submit(sql, params, theirs, timeout, 0.0)
+        started = time.monotonic()  # the chunks share the search's time limit
+        parts = [count_chunk(conn, sql, params, span, timeout, time.monotonic() - started)
+                 for span in mine]
+        if theirs:
+            parts += helper.result()
         rows = _merge_count_rows(parts, len(keys))
     labels = tuple(f"{var}.{attr}" for var, attr in keys)
     if not keys:
@@ -168,9 +181,15 @@ def count_results(conn: sqlite3.Connection, plan: Plan, by=(),
     return CountResult(results, trees, labels, tuple(groups))
 
 
+def count_chunk(conn: sqlite3.Connection, sql: str, params: list, span: tuple[int, int],
+                timeout: float | None, spent: float) -> list[tuple]:
+    """The rows of a windowed count_sql statement for one chunk of whole trees."""
+    return _count_rows(conn, sql, [*span, *params[2:]], timeout, spent)
+
+
 def _count_rows(conn: sqlite3.Connection, sql: str, params: list,
-                timeout: float | None) -> list[tuple]:
-    with _SearchClock(conn, timeout) as clock:
+                timeout: float | None, spent: float = 0.0) -> list[tuple]:
+    with _SearchClock(conn, timeout, spent) as clock:
         return clock.run(lambda: conn.execute(sql, params).fetchall())
 
 

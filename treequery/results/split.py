@@ -1,4 +1,4 @@
-"""Running one search in pieces of whole trees: windows and halves.
+"""Running one search in pieces of whole trees: windows and chunks.
 
 Every node of a result lies in one tree, so a search whose first node is bounded by
 tree boundaries finds exactly the results of those trees (pattern/sql.py, `window`).
@@ -7,14 +7,15 @@ That gives two ways to split one search:
 - windows, in corpus order, for streaming: the first window is small and each next one
   is larger, so the first results come back after a few hundred trees whatever the size
   of the index (a single statement with ORDER BY has to finish its sort first);
-- halves, for counting: two connections count one half each, in two threads (SQLite
-  lets go of the interpreter while it runs a statement, so both cores work).
+- chunks of a fixed number of trees, for counting: this process and a partner
+  process (partner.py) count every other chunk each, so both cores work, and no
+  statement holds more than one chunk's results in memory (a grouped count keeps its
+  rows until it has counted them).
 """
 from __future__ import annotations
 
 import sqlite3
 from collections.abc import Callable, Iterator
-from concurrent.futures import ThreadPoolExecutor
 from typing import TypeVar
 
 from treequery.pattern.sql import TREE_SPAN_SQL, TREE_START_SQL
@@ -24,7 +25,8 @@ T = TypeVar("T")
 WINDOW_MIN_TREES = 4096     # smaller indexes are searched by one statement
 WINDOW_FIRST_TREES = 256    # trees in the first window; each next window is 4 times larger
 WINDOW_GROWTH = 4
-SPLIT_MIN_TREES = 10_000    # smaller indexes are counted on one connection
+SPLIT_MIN_TREES = 10_000    # smaller indexes are counted by one statement
+CHUNK_TREES = 32_768        # trees per counted chunk
 
 
 def _span(conn: sqlite3.Connection) -> tuple[int, int, int] | None:
@@ -60,31 +62,14 @@ def windows(conn: sqlite3.Connection) -> list[tuple[int, int]] | None:
     return _ranges(conn, starts, last_node)
 
 
-def halves(conn: sqlite3.Connection) -> list[tuple[int, int]] | None:
-    """Two node-id ranges of whole trees of about equal size; None for a small index."""
+def chunks(conn: sqlite3.Connection) -> list[tuple[int, int]] | None:
+    """Node-id ranges of CHUNK_TREES whole trees each (at least two); None for a small index."""
     span = _span(conn)
     if span is None or span[1] - span[0] + 1 < SPLIT_MIN_TREES:
         return None
     low, high, last_node = span
-    return _ranges(conn, [low, (low + high + 1) // 2], last_node)
-
-
-def run_in_halves(connections: list[sqlite3.Connection], ranges: list[tuple[int, int]],
-                  count: Callable[[sqlite3.Connection, tuple[int, int]], T]) -> list[T]:
-    """`count(connection, range)` for each range, each on its own connection and thread.
-
-    When one part fails (a time limit, Ctrl-C), the others are interrupted and the first
-    failure is raised.
-    """
-    with ThreadPoolExecutor(max_workers=len(ranges)) as pool:
-        futures = [pool.submit(count, conn, span)
-                   for conn, span in zip(connections, ranges, strict=True)]
-        try:
-            return [future.result() for future in futures]
-        except BaseException:
-            for conn in connections:
-                conn.interrupt()
-            raise
+    size = min(CHUNK_TREES, (high - low + 2) // 2)
+    return _ranges(conn, list(range(low, high + 1, size)), last_node)
 
 
 def in_windows(ranges: list[tuple[int, int]], run: Callable[[tuple[int, int]], Iterator[T]]
