@@ -44,7 +44,7 @@ def demo_dir() -> Path:
 # -- built indexes, one per test session ------------------------------------------------
 
 # Files of the demo folder that are documentation, not trees.
-NOT_TREE_SUFFIXES = {".md", ".tsv", ".txt", ".json", ".py", ".db"}
+NOT_TREE_SUFFIXES = {".md", ".tsv", ".txt", ".json", ".py", ".db", ".svg", ".png"}
 
 
 def _build_index(tmp_path_factory, name: str, paths: list[str]) -> Path:

@@ -196,6 +196,86 @@ class Treebank:
         # Report the keys as the user wrote them (`word`, not the internal `_1.word`).
         return replace(counted, by=tuple(by))
 
+    # ------------------------------------------------------------ frequencies
+
+    def frequencies(self, pattern: PatternLike, by: Iterable[str] = (), per: str | None = None,
+                    count_empty: bool = False, timeout: float | None = None):
+        """Counts per cell of a breakdown, normalised, with dispersion (a FrequencyTable).
+
+        `per`: "corpus", "document", a metadata key (e.g. "genre"), or None for one cell
+        of the whole index. Each row gives results, distinct trees, the cell's trees and
+        tokens, results per 1,000 trees and per million tokens, and over the cell's
+        documents the range and Gries's DP (README.md, "Counting and comparing").
+
+        >>> Treebank().frequencies("VP parent-of PP", per="genre").rows[0]  # doctest: +SKIP
+        """
+        return self.pattern_frequencies({"": pattern}, by, per, count_empty, timeout,
+                                        named=False)
+
+    def pattern_frequencies(self, patterns, by: Iterable[str] = (), per: str | None = None,
+                            count_empty: bool = False, timeout: float | None = None,
+                            named: bool = True):
+        """`frequencies` for several named patterns: a {name: pattern} mapping or the path of
+        a pattern-set file. All are counted on one snapshot of the index (one read
+        transaction), one statement per pattern; `timeout` applies to each pattern."""
+        from .frequency.breakdown import CountJob, count_table
+        from .frequency.patternset import read_pattern_set
+
+        if isinstance(patterns, str | Path):
+            patterns = {entry.name: entry.pattern for entry in read_pattern_set(patterns)}
+        by = tuple(by)
+        jobs = [CountJob(name, *self._count_plan(pattern, by, count_empty, name))
+                for name, pattern in patterns.items()]
+        return count_table(self.conn, jobs, per, by, named=named, timeout=timeout)
+
+    def compare(self, pattern: PatternLike, a: str, b: str, by: Iterable[str] = (),
+                count_empty: bool = False, timeout: float | None = None):
+        """Compare two sides: counts, normalised frequencies, G², p-value, log ratio.
+
+        A side is `corpus:NAME`, `document:NAME`, `KEY:VALUE` (metadata, e.g.
+        `genre:letter`) or `index:PATH` (another index file, opened read-only). With
+        `by`, one row per group, sorted by G² (largest first).
+
+        >>> Treebank().compare("VP parent-of PP", "genre:letter", "genre:story")  # doctest: +SKIP
+        """
+        from .frequency.compare import compare_sides, parse_side
+
+        sides = [parse_side(a), parse_side(b)]
+        by = tuple(by)
+        counted = [self._side_totals(side, pattern, by, count_empty, timeout) for side in sides]
+        return compare_sides(*counted, by)
+
+    def _side_totals(self, side, pattern: PatternLike, by: tuple[str, ...], count_empty: bool,
+                     timeout: float | None):
+        if side.kind == "index":
+            with Treebank(side.value, readonly=True) as other:
+                return other._local_side_totals(side, pattern, by, count_empty, timeout)
+        return self._local_side_totals(side, pattern, by, count_empty, timeout)
+
+    def _local_side_totals(self, side, pattern: PatternLike, by: tuple[str, ...],
+                           count_empty: bool, timeout: float | None):
+        """A side's documents in this index (all of them for `index:`) and their counts."""
+        from .frequency.compare import side_documents, side_totals
+        from .results.fetch import count_per_document, read_transaction
+
+        plan, keys = self._count_plan(pattern, by, count_empty)
+        with read_transaction(self.conn):
+            documents = side_documents(self.conn, side)
+            counts = count_per_document(self.conn, plan, keys, timeout=timeout)
+        return side_totals(side, str(self.path.resolve()), documents, counts)
+
+    def _count_plan(self, pattern: PatternLike, by: tuple[str, ...], count_empty: bool,
+                    name: str = ""):
+        """The plan and (var, attr) keys for counting; errors name the pattern of a set."""
+        compiled = self.compile(pattern)
+        try:
+            keys = tuple(parse_group_key(text, compiled) for text in by)
+        except TreequeryError as error:
+            if name:
+                raise TreequeryError(f"pattern {name!r}: {error}") from None
+            raise
+        return self.plan(compiled, count_empty=count_empty), keys
+
     def explain(self, pattern: PatternLike, count_empty: bool = False) -> str:
         """The AST, the plan with its estimates, the SQL with parameters and SQLite's plan."""
         from .pattern.describe import describe

@@ -5,12 +5,15 @@ import csv
 import functools
 import json
 import sys
+from contextlib import contextmanager
 from pathlib import Path
 
 import click
 
 from .api import Treebank
 from .cli_errors import EXIT_FAILURE, TreequeryGroup
+from .frequency import present
+from .frequency.breakdown import BreakdownError
 from .results.brackets import marked_brackets
 from .results.display import Painter, location, shown_path, tree_location, use_color
 from .results.kwic import DEFAULT_WIDTH
@@ -314,24 +317,103 @@ def draw(pattern, pattern_file, db, out_dir, limit, offset, sample, seed, sort, 
         click.echo(f"{target}  ({len(drawings)} drawings)")
 
 
+by_option = click.option(
+    "--by", "by", multiple=True, metavar="VAR.ATTR",
+    help="Group counts by an attribute of a result variable (repeatable).")
+chart_option = click.option(
+    "--chart", "chart_file", type=click.Path(dir_okay=False), default=None, metavar="FILE.svg",
+    help="Also draw the results per million tokens as a bar chart (SVG) into this file.")
+
+
 @main.command()
 @click.argument("pattern", required=False)
 @pattern_file_option
 @db_option
-@click.option("--by", "by", multiple=True, metavar="VAR.ATTR",
-              help="Group counts by an attribute of a result variable (repeatable).")
-@click.option("--format", "fmt", type=click.Choice(["table", "json", "csv"]), default="table")
+@by_option
+@click.option("--per", "per", default=None, metavar="corpus|document|META_KEY",
+              help="Break the counts down by corpus, document or a metadata key (e.g. genre): "
+                   "normalised frequencies, range and dispersion per cell.")
+@click.option("--patterns", "patterns_file", type=click.Path(dir_okay=False, exists=True),
+              default=None, metavar="FILE",
+              help="Count every named pattern of a pattern-set file (instead of PATTERN).")
+@click.option("--format", "fmt", type=click.Choice(present.FORMATS), default="table")
+@chart_option
 @count_empty_option
 @timeout_option
-def count(pattern, pattern_file, db, by, fmt, count_empty, timeout) -> None:
-    """Count the results of PATTERN and the trees they are in."""
+def count(pattern, pattern_file, db, by, per, patterns_file, fmt, chart_file, count_empty,
+          timeout) -> None:
+    """Count the results of PATTERN and the trees they are in.
+
+    With --per or --patterns (or --chart), one row per cell (and pattern, and --by
+    group) with stable columns: see README.md, "Counting and comparing".
+    """
+    if patterns_file is None and per is None and chart_file is None:
+        text = read_pattern(pattern, pattern_file)
+        with open_treebank(db) as treebank:
+            counted = treebank.count(text, by=by, count_empty=count_empty, timeout=timeout)
+        echo_count(counted, by, fmt)
+        return
+    if patterns_file is not None and (pattern is not None or pattern_file is not None):
+        raise click.UsageError("give PATTERN (or -f) or --patterns FILE, not both")
+    with open_treebank(db) as treebank, bad_frequency_input():
+        if patterns_file is not None:
+            table = treebank.pattern_frequencies(patterns_file, by=by, per=per,
+                                                 count_empty=count_empty, timeout=timeout)
+            subject = Path(patterns_file).name
+        else:
+            text = read_pattern(pattern, pattern_file)
+            table = treebank.frequencies(text, by=by, per=per, count_empty=count_empty,
+                                         timeout=timeout)
+            subject = " ".join(text.split())
+    echo_frequencies(table, fmt, present.frequency_table_text)
+    if chart_file is not None:
+        title = f"{subject}: results per million tokens" + (f", by {per}" if per else "")
+        write_chart(chart_file, present.frequency_chart(table, title))
+
+
+@main.command()
+@click.argument("pattern", required=False)
+@pattern_file_option
+@db_option
+@click.option("--between", "sides", nargs=2, required=True, metavar="SIDE SIDE",
+              help="The two sides: corpus:NAME, document:NAME, index:PATH or KEY:VALUE "
+                   "(a metadata value, e.g. genre:letter).")
+@by_option
+@click.option("--format", "fmt", type=click.Choice(present.FORMATS), default="table")
+@chart_option
+@count_empty_option
+@timeout_option
+def compare(pattern, pattern_file, db, sides, by, fmt, chart_file, count_empty,
+            timeout) -> None:
+    """Compare how often PATTERN occurs on two sides: counts, normalised frequencies,
+    log-likelihood G² with its p-value, and the log ratio (per --by group, largest G² first).
+    """
     text = read_pattern(pattern, pattern_file)
-    with open_treebank(db) as treebank:
-        counted = treebank.count(text, by=by, count_empty=count_empty, timeout=timeout)
+    with open_treebank(db) as treebank, bad_frequency_input():
+        compared = treebank.compare(text, *sides, by=by, count_empty=count_empty,
+                                    timeout=timeout)
+    echo_frequencies(compared, fmt, present.comparison_text)
+    if chart_file is not None:
+        title = f"{' '.join(text.split())}: {sides[0]} vs {sides[1]}, per million tokens"
+        write_chart(chart_file, present.comparison_chart(compared, title))
+
+
+@contextmanager
+def bad_frequency_input():
+    """A breakdown key or comparison side the index cannot answer is bad input (exit 2)."""
+    try:
+        yield
+    except BreakdownError as error:
+        raise click.UsageError(str(error)) from None
+
+
+def echo_count(counted, by, fmt: str) -> None:
+    """The plain count (no breakdown) in the format asked for."""
     if fmt == "json":
         click.echo(json.dumps(counted.to_json(), ensure_ascii=False, indent=2))
-    elif fmt == "csv":
-        writer = csv.writer(sys.stdout, lineterminator="\n")
+    elif fmt in ("csv", "tsv"):
+        writer = csv.writer(sys.stdout, lineterminator="\n",
+                            delimiter="," if fmt == "csv" else "\t")
         writer.writerow([*by, "results"] if by else ["results", "trees"])
         if by:
             for group in counted.groups:
@@ -340,6 +422,21 @@ def count(pattern, pattern_file, db, by, fmt, count_empty, timeout) -> None:
             writer.writerow([counted.results, counted.trees])
     else:
         click.echo(count_to_table(counted))
+
+
+def echo_frequencies(data, fmt: str, as_table) -> None:
+    if fmt == "json":
+        click.echo(present.json_text(data))
+    elif fmt in ("csv", "tsv"):
+        present.write_rows(data.columns, data.records(), sys.stdout,
+                           "," if fmt == "csv" else "\t")
+    else:
+        click.echo(as_table(data))
+
+
+def write_chart(chart_file: str, svg: str) -> None:
+    Path(chart_file).write_text(svg, encoding="utf-8")
+    click.echo(f"chart: {chart_file}", err=True)
 
 
 @main.command()
@@ -383,6 +480,8 @@ def _register_subgroups() -> None:
 
 
 _register_subgroups()
+from .cli_serve import serve  # noqa: E402 - imports the web packages only when run
+main.add_command(serve)
 
 if __name__ == "__main__":
     main()

@@ -91,3 +91,12 @@ def test_a_time_limit_covers_all_chunks_together(bank, pieces):
     # both connections are usable afterwards
     assert bank.count("x:NP", by=("x.functions",)) == _whole(
         bank, lambda: bank.count("x:NP", by=("x.functions",)))
+
+
+def test_a_count_while_a_search_is_still_being_read(bank, pieces):
+    """An open result stream on the connection must not stop a count (or another find)."""
+    stream = bank.find("VP parent-of PP")
+    first = next(stream)
+    assert bank.count("VP parent-of PP").results > 1
+    assert next(bank.find("x:NN; x.word ~ /s$/")).bindings
+    assert next(stream).tree_id >= first.tree_id

@@ -107,7 +107,9 @@ def tree_syntax(root: int, lasts, parents, n_children, labels, words, tok_firsts
     choose = heads.choose
     for i in range(size - 1, -1, -1):  # children before their parents
         count = n_children[i]
-        if not count:
+        if count < 2:
+            if count:  # an only child is the head, whatever the rules
+                head[i] = head[i + 1]
             continue
         children = [i + 1]  # pre-order: the next sister starts after a child's last node
         for _ in range(count - 1):

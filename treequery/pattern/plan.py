@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import itertools
 import sqlite3
+import threading
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
@@ -220,13 +221,18 @@ def _label_hits(stats: _Stats, test: LabelTest) -> tuple[bool, ...]:
     key = (id(stats), test)
     if len(_HITS) > 4096:
         _HITS.clear()
-    if key not in _HITS:
-        _HITS[key] = tuple(label_matches(test, cat, fun) for cat, fun, _ in stats.labels)
-    return _HITS[key]
+    # read once into a local: another thread may clear the cache between two reads
+    hits = _HITS.get(key)
+    if hits is None:
+        hits = _HITS[key] = tuple(label_matches(test, cat, fun) for cat, fun, _ in stats.labels)
+    return hits
 
 
 def _stats_version(conn: sqlite3.Connection) -> tuple[int, int]:
     return conn.execute("PRAGMA data_version").fetchone()[0], conn.total_changes
+
+
+_STATS_LOCK = threading.Lock()  # plans may be made in several threads (the web page)
 
 
 def _cached_stats(conn: sqlite3.Connection) -> _Stats:
@@ -235,10 +241,11 @@ def _cached_stats(conn: sqlite3.Connection) -> _Stats:
     if entry is not None and entry[0] is conn and entry[1] == version:
         return entry[2]
     stats = _load_stats(conn)
-    _HITS.clear()
-    if len(_STATS_CACHE) >= _STATS_CACHE_SIZE:
-        _STATS_CACHE.pop(next(iter(_STATS_CACHE)))
-    _STATS_CACHE[id(conn)] = (conn, version, stats)
+    with _STATS_LOCK:
+        _HITS.clear()
+        if len(_STATS_CACHE) >= _STATS_CACHE_SIZE:
+            _STATS_CACHE.pop(next(iter(_STATS_CACHE)))
+        _STATS_CACHE[id(conn)] = (conn, version, stats)
     return stats
 
 

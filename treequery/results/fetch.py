@@ -4,19 +4,23 @@ from __future__ import annotations
 import sqlite3
 import time
 from collections.abc import Callable, Iterator, Sequence
+from contextlib import contextmanager
 from itertools import islice
 from typing import TypeVar
 
-from treequery.errors import SearchTimeout
+from treequery.errors import SearchTimeout, TreequeryError
 from treequery.pattern.ast import ATTRIBUTES
 from treequery.pattern.plan import Plan
 from treequery.pattern.sql import (
+    DOCUMENT_SIZES_SQL,
     LABEL_TEXT_SQL,
+    META_KEYS_SQL,
     NODE_DETAILS_SQL,
     NODE_HEAD_SQL,
     NODE_WORDS_SQL,
     TREE_LOCATION_SQL,
     count_sql,
+    document_count_sql,
     explain_query_plan,
     new_search,
     page_sql,
@@ -27,8 +31,16 @@ from treequery.pattern.sql import (
     translate_error,
 )
 from treequery.results.partner import Partner
+from treequery.results import split
 from treequery.results.split import chunks, in_windows, windows
-from treequery.results.model import BoundNode, CountGroup, CountResult, Result
+from treequery.results.model import (
+    BoundNode,
+    CountGroup,
+    CountResult,
+    DocumentCount,
+    DocumentSize,
+    Result,
+)
 
 T = TypeVar("T")
 PROGRESS_EVERY = 1000  # SQLite virtual-machine steps between two clock checks
@@ -206,6 +218,50 @@ def _merge_count_rows(parts: list[list[tuple]], n_keys: int) -> list[tuple]:
     return [(*key, n, results, trees) for key, n in groups.items()]
 
 
+def count_per_document(conn: sqlite3.Connection, plan: Plan, by=(),
+                       timeout: float | None = None) -> list[DocumentCount]:
+    """Results and distinct trees per document (and per `by` key), counted by one statement."""
+    keys = parse_by(plan, by)
+    sql, params = document_count_sql(plan, keys)
+    with _SearchClock(conn, timeout) as clock:
+        rows = clock.run(lambda: conn.execute(sql, params).fetchall())
+    bools = [ATTRIBUTES[attr] == "bool" for _, attr in keys]
+    return [DocumentCount(row[0], _key(row[1:-2], bools), row[-2], row[-1]) for row in rows]
+
+
+def document_sizes(conn: sqlite3.Connection, meta_key: str | None = None) -> list[DocumentSize]:
+    """Every document with its trees and tokens and the value of metadata `meta_key`."""
+    path = None if meta_key is None else meta_path(meta_key)
+    rows = conn.execute(DOCUMENT_SIZES_SQL, (path,)).fetchall()
+    return [DocumentSize(doc, corpus, name, None if value is None else str(value), trees, tokens)
+            for doc, corpus, name, value, trees, tokens in rows]
+
+
+def meta_keys(conn: sqlite3.Connection) -> list[str]:
+    """The metadata keys any document of the index has."""
+    return [key for (key,) in conn.execute(META_KEYS_SQL)]
+
+
+def meta_path(key: str) -> str:
+    """The JSON path of a top-level metadata key (passed to SQLite as a parameter)."""
+    if not key or '"' in key:
+        raise TreequeryError(f"{key!r} cannot be a metadata key (empty, or contains a quote)")
+    return f'$."{key}"'
+
+
+@contextmanager
+def read_transaction(conn: sqlite3.Connection) -> Iterator[None]:
+    """Run several reads on one snapshot of the index (no writer can slip in between)."""
+    if conn.in_transaction:
+        yield
+        return
+    conn.execute("BEGIN")
+    try:
+        yield
+    finally:
+        conn.execute("COMMIT")
+
+
 def _key(values: Sequence, bools: Sequence[bool]) -> tuple:
     pairs = zip(values, bools, strict=True)
     return tuple(bool(v) if is_bool and v is not None else v for v, is_bool in pairs)
@@ -223,7 +279,8 @@ def explain_text(conn: sqlite3.Connection, plan: Plan) -> str:
     register_functions(conn)
     sql, params = to_sql(plan)
     aliases = ", ".join(f"{alias} = {name}" for name, alias in sql_aliases(plan).items())
-    lines = [plan.describe(), "", "SQL:", f"  {sql}", f"aliases: {aliases}", "parameters:"]
+    lines = [plan.describe(), "", *_execution_lines(conn), "", "SQL:", f"  {sql}",
+             f"aliases: {aliases}", "parameters:"]
     lines += [f"  ?{i} = {value!r}" for i, value in enumerate(params, 1)] or ["  (none)"]
     lines += _label_code_lines(conn, plan)
     lines += ["", "SQLite query plan:"]
@@ -232,6 +289,20 @@ def explain_text(conn: sqlite3.Connection, plan: Plan) -> str:
         depth[node_id] = depth.get(parent, 0) + 1
         lines.append("  " * depth[node_id] + detail)
     return "\n".join(lines)
+
+
+def _execution_lines(conn: sqlite3.Connection) -> list[str]:
+    """How `find` and `count` run this plan on this index (split.py)."""
+    found, counted = windows(conn), chunks(conn)
+    find = ("one statement (a small index)" if found is None else
+            f"{len(found)} windows of whole trees in corpus order, the first of "
+            f"{split.WINDOW_FIRST_TREES} trees, each next {split.WINDOW_GROWTH} times larger: "
+            f"the first results come without the whole search")
+    count = ("one statement (a small index)" if counted is None else
+             f"{len(counted)} chunks of whole trees, every other one counted by a second "
+             f"process when there is a second core; a grouped count holds one chunk's rows "
+             f"at a time")
+    return ["execution:", f"  find: {find}", f"  count: {count}"]
 
 
 CODES_SHOWN = 12  # label codes listed per variable in `explain`

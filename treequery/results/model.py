@@ -66,3 +66,25 @@ class CountResult:
             "by": list(self.by),
             "groups": [{"key": list(g.key), "results": g.results} for g in self.groups],
         }
+
+
+@dataclass(frozen=True, slots=True)
+class DocumentSize:
+    """One document of an index with the denominators a breakdown needs."""
+
+    id: int
+    corpus: str
+    name: str
+    meta_value: str | None  # the value of the metadata key asked for, None when absent
+    trees: int              # trees in the tree table
+    tokens: int             # overt words of those trees (tree.n_tokens summed)
+
+
+@dataclass(frozen=True, slots=True)
+class DocumentCount:
+    """Results of one pattern in one document (for one group key when counted by keys)."""
+
+    document: int           # document id
+    key: tuple
+    results: int
+    trees: int              # distinct trees of the document with at least one result
