@@ -58,6 +58,16 @@ def load(files: Sequence[Path]) -> RefCorpus:
     return RefCorpus(list(files), load_corpus(list(files)))
 
 
+
+_LOADED: dict[str, RefCorpus] = {}
+
+
+def reference(name: str, files: list[Path]) -> RefCorpus:
+    """`load(files)` once per test session (the reference matcher is slow to set up)."""
+    if name not in _LOADED:
+        _LOADED[name] = load(files)
+    return _LOADED[name]
+
 def sidecar_values(folder: Path, key: str) -> dict[str, str]:
     """Resolved file path -> the value of `key` in the folder's documents.tsv (csv module)."""
     with open(folder / "documents.tsv", encoding="utf-8", newline="") as handle:

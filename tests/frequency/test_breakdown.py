@@ -10,19 +10,10 @@ from pathlib import Path
 
 import pytest
 from conftest import demo_tree_files
-from frequency.oracle import RefCorpus, expected_rows, load, per_file, sidecar_values
+from frequency.oracle import RefCorpus, expected_rows, per_file, reference, sidecar_values
 
 from treequery.api import Treebank
 from treequery.frequency.breakdown import BreakdownError
-
-_LOADED: dict[str, RefCorpus] = {}
-
-
-def reference(name: str, files: list[Path]) -> RefCorpus:
-    if name not in _LOADED:
-        _LOADED[name] = load(files)
-    return _LOADED[name]
-
 
 @pytest.fixture(scope="module")
 def demo(demo_dir, demo_db):

@@ -12,20 +12,11 @@ from pathlib import Path
 
 import pytest
 from conftest import demo_tree_files
-from frequency.oracle import RefCorpus, g2_p_ratio, load, per_file, sidecar_values
+from frequency.oracle import RefCorpus, g2_p_ratio, per_file, reference, sidecar_values
 
 from treequery.api import Treebank
 from treequery.frequency.breakdown import BreakdownError
 from treequery.frequency.compare import parse_side
-
-_LOADED: dict[str, RefCorpus] = {}
-
-
-def reference(name: str, files: list[Path]) -> RefCorpus:
-    if name not in _LOADED:
-        _LOADED[name] = load(files)
-    return _LOADED[name]
-
 
 @pytest.fixture(scope="module")
 def demo(demo_dir, demo_db):

@@ -19,6 +19,7 @@ from treequery.pattern.sql import (
     NODE_HEAD_SQL,
     NODE_WORDS_SQL,
     TREE_LOCATION_SQL,
+    count_needs_chunks,
     count_sql,
     document_count_sql,
     explain_query_plan,
@@ -164,7 +165,7 @@ def count_results(conn: sqlite3.Connection, plan: Plan, by=(),
     gives a process that counts every other chunk meanwhile (partner.py).
     """
     keys = parse_by(plan, by)
-    ranges = chunks(conn)
+    ranges = chunks(conn) if count_needs_chunks(plan, keys) else None
     if ranges is None:
         sql, params = count_sql(plan, keys)
         rows = _count_rows(conn, sql, params, timeout)
