@@ -295,14 +295,16 @@ class _Generator:
             return f"({a}.parent = {b}.parent AND {a}.id <> {b}.id)"
         if kind == "left-sister-of":
             return f"({a}.parent = {b}.parent AND +{a}.position < +{b}.position)"
+        # In pre-order a first child comes right after its parent, and a next sister
+        # right after the subtree of the one before: exact ids, looked up by key.
         if kind == "immediate-left-sister-of":
-            return f"({a}.parent = {b}.parent AND +{a}.position + 1 = +{b}.position)"
+            return f"({a}.parent = {b}.parent AND {b}.id = {a}.last + 1)"
         if kind == "first-child-of":
-            return f"({a}.parent = {b}.id AND +{a}.position = 1)"
+            return f"({a}.parent = {b}.id AND {_next_id(b, a)})"
         if kind == "last-child-of":
             return f"({a}.parent = {b}.id AND +{a}.position = +{b}.n_children)"
         if kind == "only-child-of":
-            return f"({a}.parent = {b}.id AND +{b}.n_children = 1)"
+            return f"({a}.parent = {b}.id AND {_next_id(b, a)} AND +{b}.n_children = 1)"
         if kind == "same-node":
             return f"{a}.id = {b}.id"
         if kind in SYNTAX_RELATIONS:
@@ -485,6 +487,11 @@ SYNTAX_RELATIONS = {
     "starts-with": "edge",
     "ends-with": "edge",
 }
+
+
+def _next_id(first: str, then: str) -> str:
+    """`then` is the node right after `first`, in the form either side can look up."""
+    return f"{then}.id = {first}.id + 1 AND {first}.id = {then}.id - 1"
 
 
 def _same_tree(a: str, b: str) -> str:
