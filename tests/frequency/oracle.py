@@ -131,3 +131,13 @@ def g2_p_ratio(freq_a: int, freq_b: int, size_a: int, size_b: int) -> tuple[floa
     g2 = float(power_divergence([freq_a, freq_b], expected, lambda_="log-likelihood").statistic)
     ratio = math.log2(((freq_a or 0.5) / size_a) / ((freq_b or 0.5) / size_b))
     return g2, float(chi2.sf(g2, 1)), ratio
+
+
+def same_values(got: Sequence, expected: Sequence, rel: float, abs_tol: float = 0.0) -> bool:
+    """Equal element by element: a missing value (None) only to None, numbers to within
+    the tolerances (pytest.approx refuses None beside a relative tolerance)."""
+    def same(g, e) -> bool:
+        numbers = all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in (g, e))
+        return math.isclose(g, e, rel_tol=rel, abs_tol=abs_tol) if numbers else g == e
+
+    return len(got) == len(expected) and all(map(same, got, expected))

@@ -10,7 +10,14 @@ from pathlib import Path
 
 import pytest
 from conftest import demo_tree_files
-from frequency.oracle import RefCorpus, expected_rows, per_file, reference, sidecar_values
+from frequency.oracle import (
+    RefCorpus,
+    expected_rows,
+    per_file,
+    reference,
+    same_values,
+    sidecar_values,
+)
 
 from treequery.api import Treebank
 from treequery.frequency.breakdown import BreakdownError
@@ -45,7 +52,7 @@ def engine_rows(table) -> dict[tuple, tuple]:
 def assert_same(got: dict, expected: dict) -> None:
     assert set(got) == set(expected), (sorted(set(got) ^ set(expected), key=str)[:10])
     for place, values in expected.items():
-        assert got[place] == pytest.approx(values, rel=1e-12), place
+        assert same_values(got[place], values, rel=1e-12), (place, got[place], values)
 
 
 DEMO_CASES = [

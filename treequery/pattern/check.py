@@ -30,6 +30,7 @@ from treequery.pattern.ast import (
     Pattern,
     Relation,
     Span,
+    walk_conditions,
 )
 from treequery.pattern.parse import parse_pattern, unescape
 
@@ -73,7 +74,7 @@ class _Checker:
         yield from self._scopes(self.pattern.condition, {var.name for var in self.pattern.vars})
         for var in self.all_vars:
             yield from self._label_regexes(var.test.label, var)
-        for condition in _walk(self.pattern.condition):
+        for condition in walk_conditions(self.pattern.condition):
             if isinstance(condition, Relation):
                 yield from self._relation(condition)
             elif isinstance(condition, Compare):
@@ -329,20 +330,8 @@ def _labels_clash(label: LabelTest, other: LabelTest) -> bool:
 
 # ---------------------------------------------------------------- walking helpers
 
-def _walk(condition: Condition) -> Iterator[Condition]:
-    """Every condition, nested ones included."""
-    yield condition
-    if isinstance(condition, (And, Or)):
-        for item in condition.items:
-            yield from _walk(item)
-    elif isinstance(condition, Not):
-        yield from _walk(condition.item)
-    elif isinstance(condition, Exists):
-        yield from _walk(condition.condition)
-
-
 def _exists(condition: Condition) -> Iterator[Exists]:
-    return (item for item in _walk(condition) if isinstance(item, Exists))
+    return (item for item in walk_conditions(condition) if isinstance(item, Exists))
 
 
 def _top_items(condition: Condition) -> Iterator[Condition]:
