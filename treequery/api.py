@@ -49,7 +49,7 @@ class Treebank:
         from .results.fetch import count_chunk
         from .results.partner import Partner
 
-        if self._partner is not None and not self._partner.alive():
+        if self._partner is not None and not self._partner.ready():
             self._partner.close()  # it failed, or still counts for a search that failed
             self._partner = None
         if self._partner is None and self.path.is_file() and (os.cpu_count() or 1) > 1:

@@ -28,7 +28,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from .heads import HeadRules, head_child, load_head_rules, parse_head_rules
-from .rows import NO_VALUE, NODE_COLUMNS, CodeTables
+from .rows import NO_VALUE, NODE_COLUMNS, CodeTables, syntax_codes
 
 HEAD_COLUMN = 13  # place of `head` in a node row; branch_up and branch_reach follow
 
@@ -57,20 +57,6 @@ class SyntaxCodes:
     def of_tables(cls, tables: CodeTables) -> SyntaxCodes:
         """A live view of code tables that are still growing (the row builder's)."""
         return cls(tables.categories, tables.coindexes, tables.gapindexes, tables.ref_indexes)
-
-
-def _codes(conn: sqlite3.Connection) -> SyntaxCodes:
-    category, coindex, gapindex = {}, {}, {}
-    for code, cat, co, gap in conn.execute(
-            "SELECT code, category, coindex, gapindex FROM label"):
-        category[code] = cat
-        if co is not None:
-            coindex[code] = co
-        if gap is not None:
-            gapindex[code] = gap
-    ref_index = dict(conn.execute(
-        "SELECT code, ref_index FROM word WHERE ref_index IS NOT NULL"))
-    return SyntaxCodes(category, coindex, gapindex, ref_index)
 
 
 # ---------------------------------------------------------------- one tree
@@ -278,10 +264,11 @@ def annotate_index(conn: sqlite3.Connection, head_rules: str | Path | None = Non
             _mark_unannotated(conn)
             conn.execute("INSERT OR REPLACE INTO meta(key, value) VALUES (?, ?)",
                          (RULES_KEY, rules.text))
-        codes, heads = _codes(conn), _HeadCache(rules)
         trees = list(_unannotated_trees(conn))
-        for batch in _batches(trees):
-            _annotate_batch(conn, batch, codes, heads)
+        if trees:  # usually none: new trees are annotated as they are built
+            codes, heads = SyntaxCodes(*syntax_codes(conn)), _HeadCache(rules)
+            for batch in _batches(trees):
+                _annotate_batch(conn, batch, codes, heads)
         if own_transaction:
             conn.execute("COMMIT")
     except BaseException:

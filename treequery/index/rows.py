@@ -21,6 +21,22 @@ INSERT_LABEL = (
 INSERT_WORD = "INSERT INTO word(code, text, form, empty_kind, ref_index) VALUES (?,?,?,?,?)"
 
 
+def syntax_codes(conn: sqlite3.Connection) -> tuple[dict, dict, dict, dict]:
+    """Label code -> category, coindex and gapindex (where it has one); word code ->
+    reference index (empty elements with one): what index-time syntax needs."""
+    categories, coindexes, gapindexes = {}, {}, {}
+    for code, category, coindex, gapindex in conn.execute(
+            "SELECT code, category, coindex, gapindex FROM label"):
+        categories[code] = category
+        if coindex is not None:
+            coindexes[code] = coindex
+        if gapindex is not None:
+            gapindexes[code] = gapindex
+    ref_indexes = dict(conn.execute(
+        "SELECT code, ref_index FROM word WHERE ref_index IS NOT NULL"))
+    return categories, coindexes, gapindexes, ref_indexes
+
+
 class CodeTables:
     """The label and word tables mirrored in memory, with this file's additions kept apart.
 
@@ -38,14 +54,7 @@ class CodeTables:
         self.next_label = (conn.execute("SELECT max(code) FROM label").fetchone()[0] or 0) + 1
         self.next_word = (conn.execute("SELECT max(code) FROM word").fetchone()[0] or 0) + 1
         # what the index-time annotation (linguistics.py) needs, kept in step with the codes
-        self.categories: dict[int, str] = {}
-        self.coindexes: dict[int, int] = {}
-        self.gapindexes: dict[int, int] = {}
-        for code, category, coindex, gapindex in conn.execute(
-                "SELECT code, category, coindex, gapindex FROM label"):
-            self._note_label(code, category, coindex, gapindex)
-        self.ref_indexes: dict[int, int] = dict(conn.execute(
-            "SELECT code, ref_index FROM word WHERE ref_index IS NOT NULL"))
+        self.categories, self.coindexes, self.gapindexes, self.ref_indexes = syntax_codes(conn)
         self._reset_pending()
 
     @classmethod

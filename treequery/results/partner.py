@@ -72,7 +72,8 @@ class Partner:
             raise TreequeryError(f"counting failed in the second process: {value}")
         return value
 
-    def alive(self) -> bool:
+    def ready(self) -> bool:
+        """Running and not still counting for an earlier search."""
         return self.process.is_alive() and not self.busy
 
     def close(self) -> None:
